@@ -1,0 +1,24 @@
+"""The one error type for unreadable or unwritable track files."""
+from __future__ import annotations
+
+
+class TrackFileError(Exception):
+    """A track file could not be read or written.
+
+    Attributes
+    ----------
+    path : the file concerned (``str``) or ``None`` for in-memory data.
+    line : 1-based line in the file where the problem was found, or ``None``.
+    problem : what is wrong, in words for the user.
+
+    ``str(error)`` is one line: ``"FILE, line N: problem"``.
+    """
+
+    def __init__(self, path, problem: str, line: int | None = None):
+        self.path = None if path is None else str(path)
+        self.line = line
+        self.problem = problem
+        where = self.path or "<data>"
+        if line is not None:
+            where += f", line {line}"
+        super().__init__(f"{where}: {problem}")
