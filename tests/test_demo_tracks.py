@@ -73,7 +73,7 @@ def test_generator_is_standalone():
     imported = {a.name.split(".")[0] for n in ast.walk(tree) if isinstance(n, ast.Import) for a in n.names}
     imported |= {n.module.split(".")[0] for n in ast.walk(tree) if isinstance(n, ast.ImportFrom)}
     assert imported <= {"__future__", "argparse", "json", "math", "dataclasses", "datetime", "pathlib",
-                        "xml", "numpy", "pyproj"}, imported
+                        "xml", "numpy", "pyproj", "scenarios"}, imported
 
 
 def test_generator_reproduces_the_committed_files(tmp_path):
