@@ -1,0 +1,49 @@
+"""The editor window (PySide6 + pyqtgraph). ``run_editor(files)`` is what ``trackwright`` calls."""
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+
+def create_application(argv: list[str] | None = None):
+    """The QApplication with Trackwright's look (created once per process)."""
+    from PySide6 import QtWidgets
+    import pyqtgraph as pg
+
+    from ..views.style import Palette, apply_look, icon
+
+    app = QtWidgets.QApplication.instance()
+    if app is None:
+        app = QtWidgets.QApplication(argv if argv is not None else [sys.argv[0]])
+    if app.property("trackwright_look"):
+        return app  # restyling an application re-polishes every live widget: do it once
+    app.setApplicationName("Trackwright")
+    app.setOrganizationName("Trackwright")
+    app.setWindowIcon(icon("trackwright"))
+    pg.setConfigOptions(antialias=True, foreground="#23262D")
+    apply_look(app, Palette.load())
+    app.setProperty("trackwright_look", True)
+    return app
+
+
+def run_editor(files: list[str]) -> int:
+    """Open one window per file (the demo ride when ``files`` is empty) and run until they close."""
+    app = create_application()
+    from .settings import AppSettings
+    from .window import MainWindow
+    from .files import DEMO_RIDE
+
+    settings = AppSettings()
+    windows = []
+    for name in files or [str(DEMO_RIDE)]:
+        window = MainWindow(settings)
+        window.show()
+        if not Path(name).exists() and not files:
+            window.statusBar().showMessage("The demo ride is not installed; open a GPX file with Ctrl+O.")
+        else:
+            window.open_path(name, confirmed=True)
+        windows.append(window)
+    return app.exec()
+
+
+__all__ = ["run_editor", "create_application"]

@@ -1,0 +1,1 @@
+"""Dockable panels: totals, legend, track list and one panel per processing tool."""

@@ -1,0 +1,129 @@
+"""A panel for one processing tool: its controls, the scope, Preview / Apply / Discard.
+
+The panel knows nothing about threads or the document: it turns its controls
+into the tool's parameter dataclass and asks the window (through signals) to
+preview, apply or discard. Any control change asks for a preview.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+from typing import Any, Callable
+
+from PySide6 import QtCore, QtWidgets
+
+from .controls import ControlSpec, ParamControl, build_controls
+
+
+@dataclass(frozen=True)
+class ToolInfo:
+    """What a panel needs to know about a tool.
+
+    Attributes
+    ----------
+    name : the tool's key in ``editor.processing.tools.TOOLS``.
+    title : the tab's text.
+    summary : one or two sentences on what the tool does, shown above the controls.
+    function : ``f(track, params, *, rows=None, track_index=0) -> Proposal``.
+    params_class : the tool's parameter dataclass.
+    specs : per-field display hints.
+    """
+
+    name: str
+    title: str
+    summary: str
+    function: Callable[..., Any]
+    params_class: type
+    specs: dict[str, ControlSpec] = field(default_factory=dict)
+
+
+class ToolPanel(QtWidgets.QWidget):
+    """Controls of one tool.
+
+    Signals
+    -------
+    preview_requested(bool immediately) : a control changed (debounced by the window) or Preview pressed.
+    apply_requested() : commit the previewed proposal.
+    discard_requested() : drop the preview.
+    """
+
+    preview_requested = QtCore.Signal(bool)
+    apply_requested = QtCore.Signal()
+    discard_requested = QtCore.Signal()
+
+    def __init__(self, info: ToolInfo, parent=None) -> None:
+        super().__init__(parent)
+        self.setObjectName("panelBody")
+        self.info = info
+        outer = QtWidgets.QVBoxLayout(self)
+        outer.setContentsMargins(8, 8, 8, 8)
+        summary = QtWidgets.QLabel(info.summary)
+        summary.setWordWrap(True)
+        summary.setObjectName("caution")
+        outer.addWidget(summary)
+        box = QtWidgets.QGroupBox("Settings")
+        self.form = QtWidgets.QFormLayout(box)
+        self.form.setFieldGrowthPolicy(QtWidgets.QFormLayout.FieldGrowthPolicy.AllNonFixedFieldsGrow)
+        self.controls: dict[str, ParamControl] = {}
+        for control in build_controls(info.params_class, info.specs):
+            self.controls[control.name] = control
+            label = QtWidgets.QLabel(control.label_text + ":")
+            label.setBuddy(control.editor)
+            label.setToolTip(control.toolTip())
+            self.form.addRow(label, control)
+            control.changed.connect(lambda: self.preview_requested.emit(False))
+        outer.addWidget(box)
+        self.extra_row = QtWidgets.QHBoxLayout()
+        outer.addLayout(self.extra_row)
+        scope_box = QtWidgets.QGroupBox("Apply to")
+        scope_layout = QtWidgets.QHBoxLayout(scope_box)
+        self.whole_track = QtWidgets.QRadioButton("&Whole track")
+        self.selection_only = QtWidgets.QRadioButton("Se&lection only")
+        self.whole_track.setChecked(True)
+        self.selection_only.setEnabled(False)
+        scope_layout.addWidget(self.whole_track)
+        scope_layout.addWidget(self.selection_only)
+        self.selection_only.toggled.connect(lambda _on: self.preview_requested.emit(False))
+        outer.addWidget(scope_box)
+        buttons = QtWidgets.QHBoxLayout()
+        self.preview_button = QtWidgets.QPushButton("&Preview")
+        self.apply_button = QtWidgets.QPushButton("&Apply")
+        self.apply_button.setObjectName("primary")
+        self.discard_button = QtWidgets.QPushButton("&Discard")
+        self.preview_button.clicked.connect(lambda: self.preview_requested.emit(True))
+        self.apply_button.clicked.connect(self.apply_requested)
+        self.discard_button.clicked.connect(self.discard_requested)
+        for b in (self.preview_button, self.apply_button, self.discard_button):
+            buttons.addWidget(b)
+        outer.addLayout(buttons)
+        self.status = QtWidgets.QLabel("")
+        self.status.setWordWrap(True)
+        outer.addWidget(self.status)
+        outer.addStretch(1)
+        self.set_has_preview(False)
+
+    def params(self) -> Any:
+        """The tool's parameters as the controls show them (other fields at their defaults)."""
+        values = {name: control.value() for name, control in self.controls.items()}
+        return replace(self.info.params_class(), **values)
+
+    def set_params(self, params: Any, emit: bool = False) -> None:
+        for name, control in self.controls.items():
+            control.set_value(getattr(params, name))
+        if emit:
+            self.preview_requested.emit(False)
+
+    def set_selection_available(self, available: bool) -> None:
+        self.selection_only.setEnabled(available)
+        if not available and self.selection_only.isChecked():
+            self.whole_track.setChecked(True)
+
+    def selection_scope(self) -> bool:
+        """Whether the tool should act on the selection only."""
+        return self.selection_only.isChecked() and self.selection_only.isEnabled()
+
+    def set_has_preview(self, has_preview: bool) -> None:
+        self.apply_button.setEnabled(has_preview)
+        self.discard_button.setEnabled(has_preview)
+
+    def set_status(self, text: str) -> None:
+        self.status.setText(text)
