@@ -1,4 +1,4 @@
-"""The look: palette, style sheet and icons from ``editor/resources``."""
+"""The look: palette, style sheet and icons from the top-level ``resources/`` folder."""
 from __future__ import annotations
 
 import json
@@ -8,7 +8,8 @@ from pathlib import Path
 
 from PySide6 import QtGui, QtWidgets
 
-RESOURCES = Path(__file__).resolve().parents[1] / "resources"
+# The top-level resources/ folder of the checkout (the program runs from an editable install).
+RESOURCES = Path(__file__).resolve().parents[2] / "resources"
 
 
 @dataclass(frozen=True)
