@@ -61,7 +61,9 @@ class Proposal:
         return np.flatnonzero(self.source_rows < 0)
 
     def is_noop(self) -> bool:
-        return not self.changed.any() and len(self.removed) == 0 and len(self.inserted) == 0
+        # a proposal that only splits segments (gap tool, long gaps) changes no row but is not a no-op
+        return (not self.changed.any() and len(self.removed) == 0 and len(self.inserted) == 0
+                and self.before.segments == self.after.segments)
 
     def as_track(self, original: Track) -> Track:
         """The proposed track as a standalone object (for chaining tools)."""

@@ -1,0 +1,263 @@
+"""Fill signal-loss gaps with points estimated by the Kalman/RTS smoother.
+
+A gap is a step longer than ``gap_factor`` times its segment's median interval
+and at least ``min_gap_s`` long. For each gap the tool proposes points at the
+segment's nominal (median) interval, timestamped ``t_before + k * median``,
+placed on the smoother's estimate across the gap: the measurements of
+``context_s`` seconds on either side, with the new times added as missing
+measurements, go through :func:`editor.processing.kalman.rts_smooth` (process
+noise fitted to that context by maximum likelihood, as the smoothing tool
+does, scatter estimated from it), whose
+prediction-and-smoothing through missing rows is exactly the interpolation
+wanted (a constant-velocity model bridges a gap with a smooth curve that
+matches speed and heading at both ends). Its posterior standard deviation
+becomes the proposal's ``sigma_h_m`` (per horizontal axis, root mean square of
+the two) and ``sigma_v_m`` for the inserted rows: widest in the middle of the
+gap, as it should be.
+
+Gaps longer than ``max_gap_s`` are not filled: a smooth curve over minutes of
+unknown travel would be invention. They are left as they are
+(``long_gap="leave"``) or the segment is split there (``"split"``), so that no
+distance is counted across them.
+
+Inserted points carry the "inserted by a tool" marker of
+:func:`editor.io.payload.mark_inserted` (``how="gap-fill"``) unless
+``mark_inserted`` is False. Everything here is an estimate, not a measurement.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..io.payload import mark_inserted
+from ..model.document import Track
+from ..model.points import ALL_COLUMNS, PointTable
+from .activity import Activity
+from .cleaning_base import activity_for, noise_sigma, planar, selection_mask, timed_segments, unchanged_proposal
+from .kalman import loglik, rts_smooth
+from .smoothing import LOG10_Q_RANGE
+from .proposal import Proposal, make_proposal
+from .stats import StatsParams
+
+
+@dataclass(frozen=True)
+class GapParams:
+    """Parameters of :func:`fill_gaps`.
+
+    Attributes
+    ----------
+    gap_factor : a step is a gap when longer than this many median intervals (default 5:
+        loggers jitter by a second or two, a tunnel or a pocket loses tens of seconds).
+    min_gap_s : ... and at least this long (default 10 s).
+    max_gap_s : longer gaps are not filled (default 120 s: two minutes of walking is 150 m,
+        of cycling a kilometre, about as far as a smooth guess stays useful).
+    long_gap : ``"leave"`` (default) or ``"split"`` the segment at gaps longer than ``max_gap_s``.
+    activity : preset name or ``"auto"``; its process noise is the fallback when the context
+        is too short to fit one.
+    horizontal_sigma_m, vertical_sigma_m : measurement scatter (metres); ``None`` estimates it
+        from the track (never below 0.5 m).
+    context_s : seconds of track on each side of a gap the estimate uses (default 60 s, at
+        least 5 points).
+    mark_inserted : mark inserted points in the file (see module notes).
+    """
+
+    gap_factor: float = 5.0
+    min_gap_s: float = 10.0
+    max_gap_s: float = 120.0
+    long_gap: str = "leave"
+    activity: str | Activity = "auto"
+    horizontal_sigma_m: float | None = None
+    vertical_sigma_m: float | None = None
+    context_s: float = 60.0
+    mark_inserted: bool = True
+
+
+#: Fewest context points on each side of a gap.
+MIN_CONTEXT_POINTS = 5
+#: Floors of the estimated scatter (metres); below them the 1 m resolution of many files dominates.
+MIN_SIGMA_H_M = 0.5
+MIN_SIGMA_V_M = 0.5
+
+
+def find_gaps(t_s: np.ndarray, factor: float, min_gap_s: float) -> tuple[np.ndarray, float]:
+    """Rows ``i`` (of one segment) where the step ``i -> i+1`` is a gap, and the median interval (s)."""
+    dt = np.diff(t_s)
+    positive = dt[dt > 0]
+    if not len(positive):
+        return np.zeros(0, dtype=np.int64), float("nan")
+    median = float(np.median(positive))
+    return np.flatnonzero((dt > factor * median) & (dt >= min_gap_s)), median
+
+
+def _sigma(given, floor, t, *cols) -> float:
+    if given is not None:
+        return float(given)
+    estimate = noise_sigma(t, *cols)
+    return max(estimate, floor) if np.isfinite(estimate) else floor
+
+
+def fill_gaps(track: Track, params: GapParams = GapParams(), *, rows=None, track_index: int = 0,
+              stats_params: StatsParams = StatsParams()) -> Proposal:
+    """Propose points across signal-loss gaps (see module notes).
+
+    ``rows`` (sorted row indices): only gaps between two selected rows are filled or split.
+    ``reasons["inserted"]`` are the proposed rows inserted, ``reasons["gap"]`` the original rows
+    where each gap found starts (``"split"`` and ``"unfilled"`` those split or left alone).
+    ``info`` counts gaps, inserted points and gives the sigmas used.
+    """
+    if params.long_gap not in ("leave", "split"):
+        raise ValueError(f"long_gap must be 'leave' or 'split', not {params.long_gap!r}")
+    pt = planar(track)
+    n = len(pt)
+    allowed = selection_mask(n, rows)
+    activity = activity_for(pt, params.activity)
+    gap_rows, gap_times, gap_counts, split_rows, unfilled = [], [], [], [], []
+    windows = []  # (context rows, new times) per filled gap
+    for a, b in timed_segments(pt, min_points=2):
+        t = pt.t_s[a:b]
+        found, median = find_gaps(t, params.gap_factor, params.min_gap_s)
+        for g in found.tolist():
+            row = a + g
+            if not (allowed[row] and allowed[row + 1]):
+                continue
+            span = t[g + 1] - t[g]
+            if span > params.max_gap_s:
+                (split_rows if params.long_gap == "split" else unfilled).append(row)
+                continue
+            count = int(np.floor((span - 0.5 * median) / median))
+            if count < 1:
+                continue
+            lo = min(int(np.searchsorted(t, t[g] - params.context_s)), max(g + 1 - MIN_CONTEXT_POINTS, 0))
+            hi = max(int(np.searchsorted(t, t[g + 1] + params.context_s, side="right")),
+                     min(g + 1 + MIN_CONTEXT_POINTS, b - a))
+            gap_rows.append(row)
+            gap_counts.append(count)
+            gap_times.append(median * np.arange(1, count + 1))
+            windows.append((a + np.arange(lo, hi), t[g] + gap_times[-1]))
+    gap_rows_a = np.array(gap_rows, dtype=np.int64)
+    counts = np.array(gap_counts, dtype=np.int64)
+    points, source, starts, sigma_h, sigma_v, sigmas = _assemble(track, pt, gap_rows_a, counts, gap_times, windows,
+                                                                 split_rows, params, activity)
+    inserted = np.flatnonzero(source < 0)
+    segment_extra = None
+    if split_rows:
+        # one new (empty) extensions payload per segment created by a split
+        old_seg = track.segment_of(np.asarray(split_rows))
+        segment_extra = list(track.segment_extra)
+        for seg in sorted(old_seg.tolist(), reverse=True):
+            segment_extra.insert(seg + 1, None)
+    all_gaps = np.sort(np.concatenate((gap_rows_a, split_rows, unfilled)).astype(np.int64))
+    info = {"activity": activity.name, "gaps": len(all_gaps), "filled": len(gap_rows), "split": len(split_rows),
+            "unfilled": len(unfilled), "inserted": len(inserted), "sigma_h_m": sigmas[0], "sigma_v_m": sigmas[1],
+            "q_h": sigmas[2], "q_v": sigmas[3],
+            "max_inserted_sigma_h_m": float(np.nanmax(sigma_h[inserted])) if len(inserted) else 0.0}
+    reasons = {"inserted": inserted, "gap": all_gaps, "split": np.array(sorted(split_rows), dtype=np.int64),
+               "unfilled": np.array(sorted(unfilled), dtype=np.int64)}
+    if not len(inserted) and not split_rows:
+        return unchanged_proposal("gaps", "Fill gaps", track_index, track, stats_params, reasons=reasons,
+                                  sigma_h_m=sigma_h, sigma_v_m=sigma_v, info=info)
+    return make_proposal("gaps", "Fill gaps", track_index, track, points, starts, source, stats_params,
+                         segment_extra=segment_extra, reasons=reasons, sigma_h_m=sigma_h, sigma_v_m=sigma_v,
+                         info=info)
+
+
+def _estimate(pt, windows, activity, params):
+    """Smoothed x, y, elevation and their standard deviations at every new time, all gaps in one pass."""
+    ctx = np.concatenate([w[0] for w in windows])
+    t_ctx = pt.t_s[ctx]
+    sizes = [len(w[0]) + len(w[1]) for w in windows]
+    seq_starts = np.concatenate(([0], np.cumsum(sizes)[:-1]))
+    # each window: context rows then new times, sorted by time within the window
+    t_all, z_all, is_new = [], [], []
+    for rows_w, new_t in windows:
+        tw = np.concatenate((pt.t_s[rows_w], new_t))
+        order = np.argsort(tw, kind="stable")
+        z = np.full((len(tw), 3), np.nan)
+        z[:len(rows_w)] = np.column_stack((pt.x[rows_w], pt.y[rows_w], pt.ele[rows_w]))
+        new = np.zeros(len(tw), dtype=bool)
+        new[len(rows_w):] = True
+        t_all.append(tw[order]), z_all.append(z[order]), is_new.append(new[order])
+    t_all, z_all, is_new = np.concatenate(t_all), np.concatenate(z_all), np.concatenate(is_new)
+    sig_h = _sigma(params.horizontal_sigma_m, MIN_SIGMA_H_M, t_ctx, pt.x[ctx], pt.y[ctx])
+    z_h = z_all[:, :2]
+    q_h = _fit_q(t_all, z_h, sig_h ** 2, seq_starts, "horizontal", activity.process_noise)
+    horiz = rts_smooth(t_all, z_h, sig_h ** 2, q_h, want_std=True, starts=seq_starts)
+    ele_hat = np.full(is_new.sum(), np.nan)
+    ele_std = np.full(is_new.sum(), np.nan)
+    sig_v = q_v = float("nan")
+    if np.isfinite(z_all[:, 2]).sum() >= 2:
+        sig_v = _sigma(params.vertical_sigma_m, MIN_SIGMA_V_M, t_ctx, pt.ele[ctx])
+        q_v = _fit_q(t_all, z_all[:, 2], sig_v ** 2, seq_starts, "vertical", activity.vertical_process_noise)
+        vert = rts_smooth(t_all, z_all[:, 2], sig_v ** 2, q_v, want_std=True, starts=seq_starts)
+        ele_hat, ele_std = vert.position[is_new], vert.position_std[is_new]
+    pos, std = horiz.position[is_new], horiz.position_std[is_new]
+    return (pos[:, 0], pos[:, 1], ele_hat, np.sqrt(0.5 * (std[:, 0] ** 2 + std[:, 1] ** 2)), ele_std,
+            (sig_h, sig_v, q_h, q_v))
+
+
+def _fit_q(t_s, z, r, starts, axis, fallback) -> float:
+    """Maximum-likelihood process noise q (m^2/s^3) of the context, searched in log10 q.
+
+    The bounds are the smoothing tool's strength range (:data:`editor.processing.smoothing.LOG10_Q_RANGE`),
+    so a fill follows the same model the smoother would fit; ``fallback`` if the data say nothing.
+    """
+    from scipy.optimize import minimize_scalar  # only when a gap is filled: scipy.optimize is slow to import
+
+    hi, lo = LOG10_Q_RANGE[axis]
+
+    def cost(log_q):
+        value = loglik(t_s, z, r, 10.0 ** log_q, starts=starts)
+        return -value if np.isfinite(value) else np.inf
+
+    try:
+        found = minimize_scalar(cost, bounds=(lo, hi), method="bounded", options={"xatol": 0.02})
+    except ValueError:
+        return fallback
+    return float(10.0 ** found.x) if found.success and np.isfinite(found.fun) else fallback
+
+
+def _assemble(track, pt, gap_rows, counts, gap_times, windows, split_rows, params, activity):
+    """The proposed point table with the new rows in place, and what goes with it."""
+    old = track.points
+    n, total_new = len(old), int(counts.sum())
+    # new rows go right after their gap's first row
+    shift = np.zeros(n, dtype=np.int64)
+    if len(gap_rows):
+        np.add.at(shift, gap_rows + 1, counts)
+    shift = np.cumsum(shift)
+    new_index = np.arange(n) + shift
+    source = np.full(n + total_new, -1, dtype=np.int64)
+    source[new_index] = np.arange(n)
+    columns = {}
+    for key, col in old.columns().items():
+        out = np.empty(n + total_new, dtype=col.dtype)
+        out[new_index] = col
+        columns[key] = out
+    inserted_at = np.flatnonzero(source < 0)
+    sigma_h = np.full(n + total_new, np.nan)
+    sigma_v = np.full(n + total_new, np.nan)
+    sigmas = (float("nan"),) * 4
+    if total_new:
+        x, y, ele, sh, sv, sigmas = _estimate(pt, windows, activity, params)
+        lat, lon = pt.projection.to_latlon(x, y)
+        t0 = np.repeat(old.time[gap_rows], counts)
+        offsets = np.rint(np.concatenate(gap_times) * 1e9).astype("timedelta64[ns]")
+        fill = {"lat": lat, "lon": lon, "ele": ele, "time": t0 + offsets}
+        for key in ALL_COLUMNS:
+            if key in fill:
+                columns[key][inserted_at] = fill[key]
+            elif key in ("name", "extra"):
+                columns[key][inserted_at] = None
+            else:
+                columns[key][inserted_at] = np.nan
+        if params.mark_inserted:
+            columns["extra"][inserted_at] = mark_inserted(None, how="gap-fill")
+        sigma_h[inserted_at], sigma_v[inserted_at] = sh, sv
+    starts = track.segment_starts + shift[np.minimum(track.segment_starts, n - 1)] if n else track.segment_starts.copy()
+    if split_rows:
+        starts = np.sort(np.concatenate((starts, new_index[np.asarray(split_rows) + 1])))
+    return PointTable(**columns), source, starts, sigma_h, sigma_v, sigmas
+
+
+__all__ = ["GapParams", "fill_gaps", "find_gaps"]
