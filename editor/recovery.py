@@ -153,24 +153,34 @@ def find_journals(directory: str | os.PathLike, include_live: bool = False) -> l
     return sorted(entries, key=lambda e: e.saved_at, reverse=True)
 
 
+def load_edits(entry: JournalEntry) -> list:
+    """The journal's forward edits, oldest first (raises :class:`TrackFileError` if damaged)."""
+    return list(_load(entry.journal_path)["edits"])
+
+
+def original_document(entry: JournalEntry, read: Callable[[str], Document] | None = None) -> Document:
+    """Read the file the journal's edits belong to, checking it is unchanged since they were made."""
+    if read is None:
+        from .io.gpx import read_gpx as read
+    source = entry.source_path
+    if source is None:
+        return Document()
+    if not Path(source).exists():
+        raise TrackFileError(source, "the file these unsaved edits belong to no longer exists")
+    if file_digest(source) != entry.source_sha256:
+        raise TrackFileError(source, "the file changed since the edits were made; they cannot be replayed")
+    return read(source)
+
+
 def restore(entry: JournalEntry, read: Callable[[str], Document] | None = None) -> Document:
     """Read the original file again and replay the journal's edits on it.
 
-    Raises :class:`TrackFileError` when the original is gone or has changed since
-    it was opened (the edits' row numbers would no longer fit it).
+    Raises :class:`TrackFileError` when the journal is damaged, or the original is
+    gone or has changed since it was opened (the edits' row numbers would no
+    longer fit it).
     """
-    if read is None:
-        from .io.gpx import read_gpx as read
-    data = _load(entry.journal_path)
-    source = data["source_path"]
-    if source is None:
-        doc = Document()
-    else:
-        if not Path(source).exists():
-            raise TrackFileError(source, "the file these unsaved edits belong to no longer exists")
-        if file_digest(source) != data["source_sha256"]:
-            raise TrackFileError(source, "the file changed since the edits were made; they cannot be replayed")
-        doc = read(source)
-    for edit in data["edits"]:
+    edits = load_edits(entry)
+    doc = original_document(entry, read)
+    for edit in edits:
         edit.apply(doc)
     return doc

@@ -29,14 +29,20 @@ def create_application(argv: list[str] | None = None):
 def run_editor(files: list[str]) -> int:
     """Open one window per file (the demo ride when ``files`` is empty) and run until they close."""
     app = create_application()
+    from .files import DEMO_RIDE
+    from .recovery_keeper import offer_recovery
     from .settings import AppSettings
     from .window import MainWindow
-    from .files import DEMO_RIDE
 
     settings = AppSettings()
-    windows = []
+    first = MainWindow(settings)
+    first.show()
+    # A restored document keeps the first window; requested files open beside it.
+    windows = [first] if offer_recovery(first) else []
+    if windows and not files:
+        return app.exec()
     for name in files or [str(DEMO_RIDE)]:
-        window = MainWindow(settings)
+        window = first if not windows else MainWindow(settings)
         window.show()
         if not Path(name).exists() and not files:
             window.statusBar().showMessage("The demo ride is not installed; open a GPX file with Ctrl+O.")

@@ -163,6 +163,7 @@ class EditOps:
             self.statusBar().showMessage("The proposal changes nothing.", 5000)
             return False
         self.push_edit(proposal.edit(), proposal.label)
+        self.recovery.record_now()
         self.statusBar().showMessage(f"Applied: {proposal.label}", 5000)
         return True
 

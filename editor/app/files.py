@@ -54,6 +54,7 @@ class FileOps:
                     "the problem? Saving will then write only those points.")
                 if answer == QtWidgets.QMessageBox.StandardButton.Yes:
                     self.set_document(partial, path)
+                    self.recovery.document_opened(None)  # the file cannot be read again to replay edits
                     self._remember(path)
                     return True
                 return False
@@ -147,6 +148,7 @@ class FileOps:
             return False
         self.saved_copy_path = target
         self.undo_stack.setClean()
+        self.recovery.discard()
         self.statusBar().showMessage(f"Saved cleaned copy: {target}", 8000)
         return True
 

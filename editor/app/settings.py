@@ -80,6 +80,17 @@ class AppSettings:
     def clear_recent_files(self) -> None:
         self.store.setValue("files/recent", [])
 
+    @property
+    def recovery_dir(self) -> Path:
+        """Folder for crash-recovery journals: beside an INI store, else the per-user data folder."""
+        configured = self.store.value("recovery/dir", "")
+        if configured:
+            return Path(str(configured))
+        if self.store.format() == QtCore.QSettings.Format.IniFormat:
+            return Path(self.store.fileName()).with_name("recovery")
+        base = QtCore.QStandardPaths.writableLocation(QtCore.QStandardPaths.StandardLocation.AppDataLocation)
+        return Path(base or Path.home() / ".trackwright") / "recovery"
+
     def value(self, key: str, default=None):
         return self.store.value(key, default)
 

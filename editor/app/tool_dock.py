@@ -131,8 +131,11 @@ class ToolDock(QtWidgets.QTabWidget):
             panel.set_selection_available(available)
 
     def document_changed(self) -> None:
+        # The edit already dropped the old preview; a preview computed on the edited track
+        # may have arrived before this redraw and stays applicable.
+        has_preview = self.window_.state.preview is not None
         for panel in self.panels:
-            panel.set_has_preview(False)
+            panel.set_has_preview(has_preview and panel is self.current_panel())
 
     def set_status(self, text: str) -> None:
         panel = self.current_panel()

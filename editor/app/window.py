@@ -21,6 +21,7 @@ from .actions import build_actions
 from .editing import EditOps
 from .files import FileOps
 from .panes import ViewPane
+from .recovery_keeper import RecoveryKeeper
 from .settings import AppSettings
 from .tool_dock import ToolDock
 from .workers import WorkerPool
@@ -48,6 +49,8 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         self.doc = Document()
         self.state = EditorState()
         self.undo_stack = QtGui.QUndoStack(self)
+        self.closing = False  # set once the window is going away: slots must not touch children
+        self.recovery = RecoveryKeeper(self)
         self.projection = document_projection(self.doc)
         self.geometry_ = TrackGeometry.empty()
         self._geometry_key: tuple | None = None
@@ -202,6 +205,7 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         self._rebuild_views(fit=True)
         self.update_totals()
         self.undo_stack.setClean()
+        self.recovery.document_opened(self.source_path)
         self.update_title()
         for warning in doc.warnings[:1]:
             self.statusBar().showMessage(f"Note: {warning}", 10000)
@@ -349,6 +353,8 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         self.profile_view.detach()
         self.pool.shutdown()
         self.long_pool.shutdown()
+        self.recovery.discard()
+        self.closing = True
         event.accept()
 
 
