@@ -60,6 +60,8 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
                          "Join the selected point's segment with the next one")
     a["insert"] = _action(w, "&Insert point after selection", w.insert_point, ["Insert", "Ctrl+Shift+I"], "insert",
                           "Add a point halfway to the next point")
+    a["sort_time"] = _action(w, "Sort points by &time", w.sort_by_time, None, None,
+                             "Put each segment's points in time order")
     a["select_all"] = _action(w, "Select &all points", w.select_all, Key.StandardKey.SelectAll)
     a["select_none"] = _action(w, "Select &none", w.clear_selection, "Ctrl+Shift+A")
     a["next"] = _action(w, "Select next point", lambda: w.step_selection(+1), "Ctrl+Right")
@@ -106,7 +108,7 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     m.addAction(a["quit"])
     m = bar.addMenu("&Edit")
     for name in ("undo", "redo", None, "delete", "trim_before", "trim_after", None, "split", "merge", "insert",
-                 None, "select_all", "select_none", "next", "previous", "grow_next", "grow_previous"):
+                 "sort_time", None, "select_all", "select_none", "next", "previous", "grow_next", "grow_previous"):
         m.addSeparator() if name is None else m.addAction(a[name])
     m = bar.addMenu("&View")
     for name in ("fit", "fit_selection", "box", None, "time_axis", "side_by_side"):

@@ -4,6 +4,7 @@ from __future__ import annotations
 from typing import Any
 
 import numpy as np
+from PySide6 import QtWidgets
 
 from ..commands import EditCommand
 from ..commands import hand_edits
@@ -71,6 +72,23 @@ class EditOps:
     def merge_segments(self) -> None:
         self._hand_edit(lambda t: hand_edits.merge_segments(t, self.state.track, self.state.selection),
                         "Join segments")
+
+    def sort_by_time(self) -> None:
+        self._hand_edit(lambda t: hand_edits.sort_by_time(t, self.state.track), "Sort points by time")
+
+    def offer_time_sort(self) -> None:
+        """After opening: if the shown track has points out of time order, offer to sort them."""
+        track = self.track()
+        count = hand_edits.backward_time_count(track) if track is not None else 0
+        if not count:
+            return
+        answer = QtWidgets.QMessageBox.question(
+            self, "Times out of order",
+            f"{count:,} point{'s' if count != 1 else ''} of this track "
+            f"{'have times' if count != 1 else 'has a time'} earlier than the point before.\n\n"
+            "Sort each segment's points by time? (One undo step; Edit ▸ Sort points by time does the same.)")
+        if answer == QtWidgets.QMessageBox.StandardButton.Yes:
+            self.sort_by_time()
 
     def insert_point(self) -> None:
         sel = self.state.selection

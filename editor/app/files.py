@@ -66,6 +66,7 @@ class FileOps:
         self.set_document(doc, path)
         self._remember(path)
         self.statusBar().showMessage(f"Opened {Path(path).name}", 5000)
+        self.offer_time_sort()
         return True
 
     def open_demo(self) -> bool:

@@ -11,7 +11,7 @@ import numpy as np
 
 from ..geo.projection import LocalProjection
 from ..model.document import Track
-from ..model.edits import DeletePoints, InsertPoints, MergeSegments, SetValues, SplitSegment
+from ..model.edits import DeletePoints, InsertPoints, MergeSegments, ReplaceTrackPoints, SetValues, SplitSegment
 from ..model.points import PointTable
 
 
@@ -100,3 +100,31 @@ def insert_point_after(track: Track, track_index: int, rows, projection: LocalPr
     time = t[:1] + (t[1] - t[0]) / 2 if not np.isnat(t).any() else np.array([np.datetime64("NaT", "ns")])
     new = PointTable.from_columns(lat, lon, ele=ele, time=time)
     return InsertPoints(track_index, np.array([row + 1], dtype=np.int64), new)
+
+
+def backward_time_count(track: Track) -> int:
+    """How many timed points have a time earlier than the timed point before them (per segment)."""
+    t = track.points.time.view("int64")
+    timed = ~np.isnat(track.points.time)
+    count = 0
+    for start, stop in track.segment_bounds():
+        seg = t[start:stop][timed[start:stop]]
+        count += int(np.count_nonzero(np.diff(seg) < 0))
+    return count
+
+
+def sort_by_time(track: Track, track_index: int) -> ReplaceTrackPoints:
+    """Put each segment's timed points in time order (a stable sort; untimed points keep their rows).
+
+    Points never move between segments. Every column and payload moves with its point.
+    """
+    if not backward_time_count(track):
+        raise HandEditError("The points are already in time order.")
+    order = np.arange(len(track.points))
+    t = track.points.time.view("int64")
+    timed = ~np.isnat(track.points.time)
+    for start, stop in track.segment_bounds():
+        rows = np.arange(start, stop)[timed[start:stop]]
+        order[rows] = rows[np.argsort(t[rows], kind="stable")]
+    return ReplaceTrackPoints(track_index, track.points.take(order), track.segment_starts.copy(),
+                              list(track.segment_extra))

@@ -147,3 +147,36 @@ def test_edit_command_applies_the_edit_and_its_inverse_only(qtbot):
     stack.redo()
     assert len(doc.tracks[0].points) == 197 and list(doc.tracks[0].segment_starts) == [0, 50]
     assert [stack.text(i) for i in range(stack.count())] == ["Delete 3 points", "Split segment"]
+
+
+def test_times_out_of_order_are_offered_for_sorting_and_sorting_is_one_undo_step(window, dialogs, tmp_path):
+    from PySide6 import QtWidgets as W
+
+    from editor.commands.hand_edits import backward_time_count
+    from editor.io.gpx import read_gpx
+
+    gpx = ['<?xml version="1.0" encoding="UTF-8"?>',
+           '<gpx version="1.1" creator="t" xmlns="http://www.topografix.com/GPX/1/1" xmlns:h="urn:x-test:h">'
+           '<trk><trkseg>']
+    seconds = [0, 1, 2, 5, 3, 4, 6, 7]  # rows 3..5 were logged out of order
+    for i, s in enumerate(seconds):
+        gpx.append(f'<trkpt lat="{46 + i * 1e-4}" lon="7"><time>2026-05-01T08:00:0{s}Z</time>'
+                   f'<extensions><h:n>{i}</h:n></extensions></trkpt>')
+    gpx.append('</trkseg><trkseg><trkpt lat="46.1" lon="7"><time>2026-05-01T07:00:00Z</time></trkpt>'
+               '</trkseg></trk></gpx>')
+    path = tmp_path / "shuffled.gpx"
+    path.write_text("\n".join(gpx))
+    dialogs.question_answer = W.QMessageBox.StandardButton.Yes
+    assert window.open_path(path, confirmed=True)
+    assert any("Times out of order" in text for kind, text in dialogs.asked if kind == "question")
+    track = window.doc.tracks[0]
+    # one backward step inside segment 0; the second segment's earlier time is not compared across segments
+    assert window.undo_stack.count() == 1 and window.undo_stack.text(0) == "Sort points by time"
+    assert backward_time_count(track) == 0
+    seconds_now = (track.points.time[:8] - track.points.time[0]).astype("timedelta64[s]").astype(int).tolist()
+    assert seconds_now == [0, 1, 2, 3, 4, 5, 6, 7]
+    # payloads moved with their points: the point logged at 5 s is the 4th in the file (n = 3)
+    assert "<h:n>3</h:n>" in str(track.points.extra[5])
+    assert track.segment_starts.tolist() == [0, 8]
+    window.undo_stack.undo()
+    assert window.doc.equals(read_gpx(path))
