@@ -76,28 +76,26 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         self.setCentralWidget(self.splitter)
 
         self.totals_panel = TotalsPanel()
-        totals_box = QtWidgets.QWidget()
-        totals_layout = QtWidgets.QVBoxLayout(totals_box)
-        totals_layout.setContentsMargins(0, 0, 0, 0)
-        totals_layout.addWidget(self.totals_panel)
-        totals_layout.addWidget(LegendPanel(self.palette_))
         self.track_list = TrackList()
         self.history = QtWidgets.QUndoView(self.undo_stack)
         self.history.setEmptyLabel("File as opened")
         self.tool_dock = ToolDock(self)
 
         self.tools_dock = self._dock("Clean-up tools", "toolsDock", self.tool_dock)
-        self.totals_dock = self._dock("Totals", "totalsDock", totals_box)
+        self.totals_dock = self._dock("Totals", "totalsDock", self.totals_panel)
+        self.legend_dock = self._dock("Legend", "legendDock", LegendPanel(self.palette_))
         self.history_dock = self._dock("History", "historyDock", self.history)
         self.tracks_dock = self._dock("Tracks and segments", "tracksDock", self.track_list)
         right = QtCore.Qt.DockWidgetArea.RightDockWidgetArea
         self.addDockWidget(right, self.tools_dock)
         self.addDockWidget(right, self.totals_dock)
         self.addDockWidget(right, self.history_dock)
+        # The legend shares a tab group with the history, so the tool controls keep their room.
+        self.tabifyDockWidget(self.history_dock, self.legend_dock)
         self.tabifyDockWidget(self.history_dock, self.tracks_dock)
-        self.history_dock.raise_()
+        self.legend_dock.raise_()
         self.resizeDocks([self.tools_dock], [390], QtCore.Qt.Orientation.Horizontal)
-        self.resizeDocks([self.tools_dock, self.totals_dock, self.history_dock], [520, 330, 120],
+        self.resizeDocks([self.tools_dock, self.totals_dock, self.history_dock], [560, 230, 170],
                          QtCore.Qt.Orientation.Vertical)
 
         self.status_points = QtWidgets.QLabel("")
