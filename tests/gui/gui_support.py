@@ -11,7 +11,7 @@ from editor.model import Document, PointTable, Track
 ROOT = Path(__file__).resolve().parents[2]
 DEMO_RIDE = ROOT / "demo_tracks" / "demo_ride.gpx"
 #: The GPX 1.1 XML Schema published with the standard (Topografix), provided in the shared folder.
-GPX_XSD = Path("/work/shared/standards/gpx-1.1.xsd")
+from shared_files import GPX_XSD  # noqa: E402
 
 
 def synthetic_ride(n: int = 2000, seed: int = 7, segments: int = 2) -> Document:

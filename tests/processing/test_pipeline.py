@@ -15,7 +15,7 @@ from editor.processing.stats import climb
 from editor.processing.tools import (TOOLS, GapParams, SimplifyParams, SmoothParams, SpikeParams, StopParams,
                                      collapse_stops, despike, fill_gaps, smooth)
 
-SCHEMA = Path("/work/shared/standards/gpx-1.1.xsd")
+from shared_files import GPX_XSD as SCHEMA  # noqa: E402
 
 
 def invented_hike(seed=21):
