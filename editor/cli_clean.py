@@ -6,7 +6,8 @@
     trackwright clean A.gpx B.gpx -d OUTDIR        # writes OUTDIR/A-cleaned.gpx, OUTDIR/B-cleaned.gpx
 
 Steps, in this order (see :mod:`editor.processing.pipeline` for why): remove
-spikes, fill gaps (up to ``--max-gap`` seconds, 120 by default), collapse stops,
+spikes and the catch-up after signal loss, fill gaps (up to ``--max-gap`` seconds
+as recorded, 120 by default), collapse stops,
 smooth (strength chosen by maximum likelihood unless given), simplify (off
 unless ``--simplify METRES``; elevation is kept to the same number of metres
 unless ``--simplify-vertical`` says otherwise, so climb totals survive). Everything the steps do not touch is kept:
@@ -77,11 +78,12 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--smooth", type=_smooth_arg, default="auto", metavar="auto|off|STRENGTH",
                    help="smoothing: auto (maximum likelihood, default), off, or a strength 0..100")
     p.add_argument("--despike", action=argparse.BooleanOptionalAction, default=True,
-                   help="remove spikes and catch-up jumps (default on)")
+                   help="remove spikes and the catch-up after signal loss (default on)")
     p.add_argument("--fill-gaps", action=argparse.BooleanOptionalAction, default=True,
                    help="fill signal-loss gaps with estimated points (default on)")
     p.add_argument("--max-gap", type=_positive, default=120.0, metavar="SECONDS",
-                   help="longest gap to fill, seconds (default 120)")
+                   help="longest gap to fill, seconds, as recorded: the catch-up removed after a gap "
+                        "does not count (default 120)")
     p.add_argument("--split-long-gaps", action="store_true",
                    help="start a new segment at gaps longer than --max-gap instead of leaving them")
     p.add_argument("--stops", action=argparse.BooleanOptionalAction, default=True,
@@ -101,8 +103,13 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
 
 def clean_params(args):
     """The :class:`CleanParams` the command line asks for."""
+    # each tool's module directly, not the registry: that would import simplification (and shapely)
+    # on every run, while it is off unless --simplify is given
+    from .processing.gaps import GapParams
     from .processing.pipeline import CleanParams
-    from .processing.tools import GapParams, SimplifyParams, SmoothParams, SpikeParams, StopParams
+    from .processing.smoothing import SmoothParams
+    from .processing.spikes import SpikeParams
+    from .processing.stops import StopParams
 
     vertical = args.simplify if args.simplify_vertical is None else args.simplify_vertical
     vertical = None if vertical == "off" else vertical
@@ -119,7 +126,13 @@ def clean_params(args):
         if args.fill_gaps else None,
         collapse_stops=StopParams() if args.stops else None,
         smooth=smooth,
-        simplify=SimplifyParams(tolerance_m=args.simplify, vertical_tolerance_m=vertical) if args.simplify else None)
+        simplify=_simplify_params(args.simplify, vertical) if args.simplify else None)
+
+
+def _simplify_params(tolerance_m: float, vertical_tolerance_m: float | None):
+    from .processing.simplify import SimplifyParams
+
+    return SimplifyParams(tolerance_m=tolerance_m, vertical_tolerance_m=vertical_tolerance_m)
 
 
 def _same_file(a: Path, b: Path) -> bool:

@@ -13,7 +13,7 @@ from editor.cli_clean import ProgressBar
 from editor.io.gpx import read_gpx
 
 ROOT = Path(__file__).resolve().parents[1]
-SCHEMA = Path("/work/shared/standards/gpx-1.1.xsd")  # the published GPX 1.1 schema
+from shared_files import GPX_XSD as SCHEMA  # noqa: E402  (the published GPX 1.1 schema)
 
 
 def invented_file(path: Path, n: int = 400, seed: int = 0, spike_at: int | None = 200) -> Path:
@@ -178,3 +178,16 @@ def test_module_entry_point_runs_clean(walk, tmp_path):
                          cwd=ROOT, capture_output=True, text=True, timeout=120)
     assert run.returncode == 0, run.stderr
     assert out.exists() and "not for navigation" in run.stdout
+
+
+def test_clean_does_not_import_what_default_steps_do_not_use(walk, tmp_path):
+    # start-up time of the batch command: scipy.optimize (the strength search has its own Brent search),
+    # scipy.stats and shapely (simplification is off by default) stay unimported
+    out = tmp_path / "lazy.gpx"
+    code = ("import sys; from editor.cli import main; "
+            f"code = main(['clean', {str(walk)!r}, '-o', {str(out)!r}]); "
+            "print(code, *[m for m in ('scipy.optimize', 'scipy.stats', 'shapely') if m in sys.modules])")
+    run = subprocess.run([sys.executable, "-c", code], cwd=ROOT, capture_output=True, text=True, timeout=120)
+    assert run.returncode == 0, run.stderr
+    assert run.stdout.strip().splitlines()[-1] == "0"
+    assert out.exists()

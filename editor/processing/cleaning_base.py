@@ -4,10 +4,18 @@ Everything here works on whole columns: a track is projected once into the
 local transverse Mercator plane (metres), times become float seconds (UTC
 epoch), and per-segment work is expressed through segment bounds rather than
 per-point Python objects.
+
+A caller that runs several tools in a row (the batch clean) projects the track
+once and hands the plane to each tool (their ``plane`` argument); after each
+step :func:`replan` reprojects only the rows the step moved or inserted, with
+the same projection. Likewise it passes the totals it already knows
+(``before``) so that a proposal does not recompute them.
 """
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
+from statistics import NormalDist
 
 import numpy as np
 
@@ -16,7 +24,7 @@ from ..model.document import Track
 from ..model.points import PointTable
 from .activity import Activity, resolve_activity
 from .proposal import Proposal, make_proposal
-from .stats import StatsParams, track_totals
+from .stats import StatsParams, Totals, track_totals
 
 #: 1 / Phi^-1(3/4): turns a median absolute deviation into a Gaussian standard deviation.
 MAD_TO_SIGMA = 1.482602218505602
@@ -46,12 +54,56 @@ class PlanarTrack:
         return len(self.x)
 
 
-def planar(track: Track) -> PlanarTrack:
-    """Project ``track`` onto a transverse Mercator plane centred on its own points."""
+def planar(track: Track, projection: LocalProjection | None = None) -> PlanarTrack:
+    """Project ``track`` onto a transverse Mercator plane: ``projection``, or one centred on its own points."""
     p = track.points
-    projection = LocalProjection.centred_on(p.lat, p.lon)
+    if projection is None:
+        projection = LocalProjection.centred_on(p.lat, p.lon)
     x, y = projection.to_xy(p.lat, p.lon) if len(p) else (np.zeros(0), np.zeros(0))
     return PlanarTrack(x, y, p.ele.astype(np.float64), p.time_s(), track.segment_bounds(), projection)
+
+
+def plane_of(track: Track, plane: PlanarTrack | None) -> PlanarTrack:
+    """``plane`` if given (checked against ``track``), else :func:`planar` of the track."""
+    if plane is None:
+        return planar(track)
+    if len(plane) != len(track.points):
+        raise ValueError(f"the plane has {len(plane)} rows but the track has {len(track.points)} points")
+    return plane
+
+
+def replan(plane: PlanarTrack, track: Track, source_rows: np.ndarray, changed: np.ndarray) -> PlanarTrack:
+    """The plane of ``track`` (a tool's result) from ``plane`` (of the track the tool was given).
+
+    Rows that come unchanged from a source row keep its planar coordinates; rows that are
+    inserted or changed are projected with the same projection, so the result is exactly
+    ``planar(track, plane.projection)``.
+    """
+    p = track.points
+    source_rows = np.asarray(source_rows, dtype=np.int64)
+    fresh = (source_rows < 0) | np.asarray(changed, dtype=bool)
+    src = np.maximum(source_rows, 0)
+    x, y = plane.x[src], plane.y[src]
+    if fresh.any():
+        x[fresh], y[fresh] = plane.projection.to_xy(p.lat[fresh], p.lon[fresh])
+    return PlanarTrack(x, y, p.ele.astype(np.float64), p.time_s(), track.segment_bounds(), plane.projection)
+
+
+def chi2_quantile(confidence: float, dof: int) -> float:
+    """Chi-square quantile ``scipy.stats.chi2.ppf(confidence, dof)``.
+
+    Closed forms for one degree of freedom (the square of the two-sided normal quantile) and
+    two (``-2 ln(1 - confidence)``, the exponential law), which is what the gates use; other
+    degrees of freedom use ``scipy.special.chdtri`` (the function ``chi2.ppf`` calls), imported
+    only then because ``scipy.special`` takes a tenth of a second to import.
+    """
+    if dof == 1:
+        return NormalDist().inv_cdf(0.5 + 0.5 * confidence) ** 2
+    if dof == 2:
+        return -2.0 * math.log1p(-confidence)
+    from scipy.special import chdtri
+
+    return float(chdtri(dof, 1.0 - confidence))
 
 
 def timed_segments(track: PlanarTrack, min_points: int = 3) -> list[tuple[int, int]]:
@@ -155,10 +207,13 @@ def noise_sigma(t_s: np.ndarray, *columns: np.ndarray) -> float:
 
 
 def unchanged_proposal(tool: str, label: str, track_index: int, track: Track, stats_params: StatsParams,
-                       **kwargs) -> Proposal:
-    """The "nothing to do" proposal: what :func:`make_proposal` would build, with the totals computed once."""
+                       before: Totals | None = None, **kwargs) -> Proposal:
+    """The "nothing to do" proposal: what :func:`make_proposal` would build, with the totals computed once.
+
+    ``before``: the totals of ``track`` with ``stats_params`` when the caller already has them.
+    """
     n = len(track.points)
-    totals = track_totals(track, stats_params)
+    totals = track_totals(track, stats_params) if before is None else before
     return Proposal(tool=tool, label=label, track=track_index, points=track.points.copy(),
                     segment_starts=track.segment_starts.copy(), source_rows=np.arange(n, dtype=np.int64),
                     changed=np.zeros(n, dtype=bool), removed=np.zeros(0, dtype=np.int64), before=totals,
@@ -166,15 +221,18 @@ def unchanged_proposal(tool: str, label: str, track_index: int, track: Track, st
 
 
 def keep_proposal(tool: str, label: str, track_index: int, track: Track, keep: np.ndarray,
-                  stats_params: StatsParams, **kwargs) -> Proposal:
-    """A proposal that only drops rows (``keep`` False); segment boundaries follow the kept rows."""
+                  stats_params: StatsParams, before: Totals | None = None, **kwargs) -> Proposal:
+    """A proposal that only drops rows (``keep`` False); segment boundaries follow the kept rows.
+
+    ``before``: the totals of ``track`` when already known (see :func:`unchanged_proposal`).
+    """
     if keep.all():
-        return unchanged_proposal(tool, label, track_index, track, stats_params, **kwargs)
+        return unchanged_proposal(tool, label, track_index, track, stats_params, before, **kwargs)
     removed = np.flatnonzero(~keep)
     starts = track.segment_starts - np.searchsorted(removed, track.segment_starts, side="left")
     source = np.flatnonzero(keep)
     return make_proposal(tool, label, track_index, track, track.points.take(source), starts, source,
-                         stats_params, **kwargs)
+                         stats_params, before=before, **kwargs)
 
 
 def _same(a: np.ndarray, b: np.ndarray) -> bool:
@@ -182,17 +240,17 @@ def _same(a: np.ndarray, b: np.ndarray) -> bool:
 
 
 def values_proposal(tool: str, label: str, track_index: int, track: Track, columns: dict[str, np.ndarray],
-                    stats_params: StatsParams, **kwargs) -> Proposal:
-    """A proposal that keeps every row and overwrites some columns."""
+                    stats_params: StatsParams, before: Totals | None = None, **kwargs) -> Proposal:
+    """A proposal that keeps every row and overwrites some columns (``before`` as in :func:`keep_proposal`)."""
     if all(_same(getattr(track.points, key), values) for key, values in columns.items()):
-        return unchanged_proposal(tool, label, track_index, track, stats_params, **kwargs)
+        return unchanged_proposal(tool, label, track_index, track, stats_params, before, **kwargs)
     points: PointTable = track.points.copy()
     for key, values in columns.items():
         getattr(points, key)[:] = values
     return make_proposal(tool, label, track_index, track, points, track.segment_starts,
-                         np.arange(len(points)), stats_params, **kwargs)
+                         np.arange(len(points)), stats_params, before=before, **kwargs)
 
 
-__all__ = ["PlanarTrack", "planar", "activity_for", "timed_segments", "selection_mask", "true_runs", "window_means",
-           "window_speed",
-           "noise_sigma", "keep_proposal", "values_proposal", "unchanged_proposal", "MAD_TO_SIGMA"]
+__all__ = ["PlanarTrack", "planar", "plane_of", "replan", "chi2_quantile", "activity_for", "timed_segments",
+           "selection_mask", "true_runs", "window_means", "window_speed", "noise_sigma", "keep_proposal",
+           "values_proposal", "unchanged_proposal", "MAD_TO_SIGMA"]

@@ -15,6 +15,22 @@ becomes the proposal's ``sigma_h_m`` (per horizontal axis, root mean square of
 the two) and ``sigma_v_m`` for the inserted rows: widest in the middle of the
 gap, as it should be.
 
+Elevation is kept monotone between the gap's ends. With no measurement inside
+the gap, the smoother's estimate there is the cubic Hermite curve through the
+smoothed elevation and vertical speed at the two ends (the bridge of the
+constant-velocity model). Across a long gap an end speed that is mostly noise
+(elevation is the noisiest coordinate, often stored to 1 m, and wanders) makes
+that curve overshoot by tens of metres, climb that no measurement shows; the
+gap says nothing about a hill inside it. So the end speeds are limited as in
+Fritsch & Carlson (1980), "Monotone piecewise cubic interpolation", SIAM J.
+Numer. Anal. 17(2):238-246: a speed against the direction from one end to the
+other becomes 0, and the pair is scaled down to ``alpha^2 + beta^2 <= 9``
+(``alpha``, ``beta`` the end speeds over the mean slope), which keeps the
+cubic monotone and between the two end values. Where the smoother's curve is
+already monotone it is kept unchanged. ``info["ele_limited"]`` counts the gaps
+whose end speeds were limited. Horizontal positions are not limited: there the
+end headings are well measured and a bend in the gap is real.
+
 Gaps longer than ``max_gap_s`` are not filled: a smooth curve over minutes of
 unknown travel would be invention. They are left as they are
 (``long_gap="leave"``) or the segment is split there (``"split"``), so that no
@@ -34,11 +50,13 @@ from ..io.payload import mark_inserted
 from ..model.document import Track
 from ..model.points import ALL_COLUMNS, PointTable
 from .activity import Activity
-from .cleaning_base import activity_for, noise_sigma, planar, selection_mask, timed_segments, unchanged_proposal
-from .kalman import loglik, rts_smooth
-from .smoothing import LOG10_Q_RANGE
+from .cleaning_base import (PlanarTrack, activity_for, noise_sigma, plane_of, selection_mask, timed_segments,
+                            unchanged_proposal)
+from .kalman import Problem
 from .proposal import Proposal, make_proposal
-from .stats import StatsParams
+from .scalar_search import bounded_minimum
+from .smoothing import LOG10_Q_RANGE
+from .stats import StatsParams, Totals
 
 
 @dataclass(frozen=True)
@@ -98,17 +116,20 @@ def _sigma(given, floor, t, *cols) -> float:
 
 
 def fill_gaps(track: Track, params: GapParams = GapParams(), *, rows=None, track_index: int = 0,
-              stats_params: StatsParams = StatsParams()) -> Proposal:
+              stats_params: StatsParams = StatsParams(), plane: PlanarTrack | None = None,
+              before: Totals | None = None) -> Proposal:
     """Propose points across signal-loss gaps (see module notes).
 
     ``rows`` (sorted row indices): only gaps between two selected rows are filled or split.
+    ``plane``: the track already projected (:func:`editor.processing.cleaning_base.planar`);
+    ``before``: its totals, if known.
     ``reasons["inserted"]`` are the proposed rows inserted, ``reasons["gap"]`` the original rows
     where each gap found starts (``"split"`` and ``"unfilled"`` those split or left alone).
     ``info`` counts gaps, inserted points and gives the sigmas used.
     """
     if params.long_gap not in ("leave", "split"):
         raise ValueError(f"long_gap must be 'leave' or 'split', not {params.long_gap!r}")
-    pt = planar(track)
+    pt = plane_of(track, plane)
     n = len(pt)
     allowed = selection_mask(n, rows)
     activity = activity_for(pt, params.activity)
@@ -150,16 +171,16 @@ def fill_gaps(track: Track, params: GapParams = GapParams(), *, rows=None, track
     all_gaps = np.sort(np.concatenate((gap_rows_a, split_rows, unfilled)).astype(np.int64))
     info = {"activity": activity.name, "gaps": len(all_gaps), "filled": len(gap_rows), "split": len(split_rows),
             "unfilled": len(unfilled), "inserted": len(inserted), "sigma_h_m": sigmas[0], "sigma_v_m": sigmas[1],
-            "q_h": sigmas[2], "q_v": sigmas[3],
+            "q_h": sigmas[2], "q_v": sigmas[3], "ele_limited": sigmas[4],
             "max_inserted_sigma_h_m": float(np.nanmax(sigma_h[inserted])) if len(inserted) else 0.0}
     reasons = {"inserted": inserted, "gap": all_gaps, "split": np.array(sorted(split_rows), dtype=np.int64),
                "unfilled": np.array(sorted(unfilled), dtype=np.int64)}
     if not len(inserted) and not split_rows:
-        return unchanged_proposal("gaps", "Fill gaps", track_index, track, stats_params, reasons=reasons,
+        return unchanged_proposal("gaps", "Fill gaps", track_index, track, stats_params, before, reasons=reasons,
                                   sigma_h_m=sigma_h, sigma_v_m=sigma_v, info=info)
     return make_proposal("gaps", "Fill gaps", track_index, track, points, starts, source, stats_params,
-                         segment_extra=segment_extra, reasons=reasons, sigma_h_m=sigma_h, sigma_v_m=sigma_v,
-                         info=info)
+                         before=before, segment_extra=segment_extra, reasons=reasons, sigma_h_m=sigma_h,
+                         sigma_v_m=sigma_v, info=info)
 
 
 def _estimate(pt, windows, activity, params):
@@ -180,41 +201,71 @@ def _estimate(pt, windows, activity, params):
         t_all.append(tw[order]), z_all.append(z[order]), is_new.append(new[order])
     t_all, z_all, is_new = np.concatenate(t_all), np.concatenate(z_all), np.concatenate(is_new)
     sig_h = _sigma(params.horizontal_sigma_m, MIN_SIGMA_H_M, t_ctx, pt.x[ctx], pt.y[ctx])
-    z_h = z_all[:, :2]
-    q_h = _fit_q(t_all, z_h, sig_h ** 2, seq_starts, "horizontal", activity.process_noise)
-    horiz = rts_smooth(t_all, z_h, sig_h ** 2, q_h, want_std=True, starts=seq_starts)
+    horizontal = Problem(t_all, z_all[:, :2], sig_h ** 2, starts=seq_starts)
+    q_h = _fit_q(horizontal, "horizontal", activity.process_noise)
+    horiz = horizontal.smooth(q_h, want_std=True)
     ele_hat = np.full(is_new.sum(), np.nan)
     ele_std = np.full(is_new.sum(), np.nan)
     sig_v = q_v = float("nan")
+    limited = 0
     if np.isfinite(z_all[:, 2]).sum() >= 2:
         sig_v = _sigma(params.vertical_sigma_m, MIN_SIGMA_V_M, t_ctx, pt.ele[ctx])
-        q_v = _fit_q(t_all, z_all[:, 2], sig_v ** 2, seq_starts, "vertical", activity.vertical_process_noise)
-        vert = rts_smooth(t_all, z_all[:, 2], sig_v ** 2, q_v, want_std=True, starts=seq_starts)
-        ele_hat, ele_std = vert.position[is_new], vert.position_std[is_new]
+        vertical = Problem(t_all, z_all[:, 2], sig_v ** 2, starts=seq_starts)
+        q_v = _fit_q(vertical, "vertical", activity.vertical_process_noise)
+        vert = vertical.smooth(q_v, want_std=True)
+        ele_std = vert.position_std[is_new]
+        ele_hat, limited = monotone_bridge(t_all, vert.position, vert.velocity, is_new)
     pos, std = horiz.position[is_new], horiz.position_std[is_new]
     return (pos[:, 0], pos[:, 1], ele_hat, np.sqrt(0.5 * (std[:, 0] ** 2 + std[:, 1] ** 2)), ele_std,
-            (sig_h, sig_v, q_h, q_v))
+            (sig_h, sig_v, q_h, q_v, limited))
 
 
-def _fit_q(t_s, z, r, starts, axis, fallback) -> float:
+def monotone_bridge(t_s: np.ndarray, value: np.ndarray, rate: np.ndarray, is_new: np.ndarray
+                    ) -> tuple[np.ndarray, int]:
+    """Values at the ``is_new`` rows on the cubic Hermite curve between the rows on either side.
+
+    ``t_s`` (seconds, increasing within each run of new rows and its two neighbours), ``value``
+    and ``rate`` (per second) at every row; each run of new rows must have a row that is not new
+    on both sides. The end rates are limited as in Fritsch & Carlson (1980) (see the module
+    notes), so the curve is monotone and stays between the two end values. Returns the values
+    at the new rows and the number of runs whose end rates had to be limited.
+    """
+    idx = np.arange(len(is_new))
+    a = np.maximum.accumulate(np.where(~is_new, idx, -1))[is_new]
+    b = np.minimum.accumulate(np.where(~is_new, idx, len(idx))[::-1])[::-1][is_new]
+    span = t_s[b] - t_s[a]
+    secant = (value[b] - value[a]) / span
+    with np.errstate(invalid="ignore", divide="ignore"):
+        alpha = np.where(secant != 0, rate[a] / secant, 0.0)
+        beta = np.where(secant != 0, rate[b] / secant, 0.0)
+    alpha_l, beta_l = np.maximum(alpha, 0.0), np.maximum(beta, 0.0)
+    radius = np.hypot(alpha_l, beta_l)
+    shrink = np.where(radius > 3.0, 3.0 / np.where(radius > 0, radius, 1.0), 1.0)
+    alpha_l, beta_l = alpha_l * shrink, beta_l * shrink
+    changed = ~(np.isclose(alpha_l, alpha, rtol=1e-12, atol=0.0) & np.isclose(beta_l, beta, rtol=1e-12, atol=0.0))
+    changed &= np.isfinite(secant)
+    s = (t_s[is_new] - t_s[a]) / span
+    h00, h10 = 2 * s ** 3 - 3 * s ** 2 + 1, s ** 3 - 2 * s ** 2 + s
+    h01, h11 = -2 * s ** 3 + 3 * s ** 2, s ** 3 - s ** 2
+    slope_a = np.where(secant != 0, alpha_l * secant, 0.0)
+    slope_b = np.where(secant != 0, beta_l * secant, 0.0)
+    out = h00 * value[a] + h10 * span * slope_a + h01 * value[b] + h11 * span * slope_b
+    return out, int(len(np.unique(a[changed])))
+
+
+def _fit_q(problem: Problem, axis: str, fallback: float) -> float:
     """Maximum-likelihood process noise q (m^2/s^3) of the context, searched in log10 q.
 
     The bounds are the smoothing tool's strength range (:data:`editor.processing.smoothing.LOG10_Q_RANGE`),
     so a fill follows the same model the smoother would fit; ``fallback`` if the data say nothing.
+    ``problem`` is prepared once; each step of the search is one likelihood pass on it.
     """
-    from scipy.optimize import minimize_scalar  # only when a gap is filled: scipy.optimize is slow to import
-
     hi, lo = LOG10_Q_RANGE[axis]
-
-    def cost(log_q):
-        value = loglik(t_s, z, r, 10.0 ** log_q, starts=starts)
-        return -value if np.isfinite(value) else np.inf
-
     try:
-        found = minimize_scalar(cost, bounds=(lo, hi), method="bounded", options={"xatol": 0.02})
+        found = bounded_minimum(lambda log_q: -problem.loglik(10.0 ** log_q), lo, hi, 0.02)
     except ValueError:
         return fallback
-    return float(10.0 ** found.x) if found.success and np.isfinite(found.fun) else fallback
+    return float(10.0 ** found.x) if np.isfinite(found.fun) else fallback
 
 
 def _assemble(track, pt, gap_rows, counts, gap_times, windows, split_rows, params, activity):
@@ -237,7 +288,7 @@ def _assemble(track, pt, gap_rows, counts, gap_times, windows, split_rows, param
     inserted_at = np.flatnonzero(source < 0)
     sigma_h = np.full(n + total_new, np.nan)
     sigma_v = np.full(n + total_new, np.nan)
-    sigmas = (float("nan"),) * 4
+    sigmas = (float("nan"),) * 4 + (0,)  # sigma_h, sigma_v, q_h, q_v, gaps with limited end rates
     if total_new:
         x, y, ele, sh, sv, sigmas = _estimate(pt, windows, activity, params)
         lat, lon = pt.projection.to_latlon(x, y)
@@ -254,10 +305,11 @@ def _assemble(track, pt, gap_rows, counts, gap_times, windows, split_rows, param
         if params.mark_inserted:
             columns["extra"][inserted_at] = mark_inserted(None, how="gap-fill")
         sigma_h[inserted_at], sigma_v[inserted_at] = sh, sv
-    starts = track.segment_starts + shift[np.minimum(track.segment_starts, n - 1)] if n else track.segment_starts.copy()
+    starts = (track.segment_starts + shift[np.minimum(track.segment_starts, n - 1)] if n
+              else track.segment_starts.copy())
     if split_rows:
         starts = np.sort(np.concatenate((starts, new_index[np.asarray(split_rows) + 1])))
     return PointTable(**columns), source, starts, sigma_h, sigma_v, sigmas
 
 
-__all__ = ["GapParams", "fill_gaps", "find_gaps"]
+__all__ = ["GapParams", "fill_gaps", "find_gaps", "monotone_bridge"]

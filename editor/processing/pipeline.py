@@ -9,9 +9,14 @@ Order of the steps, and why
 1. **Remove spikes** first: a wild fix inflates everything after it, the noise
    and process-noise estimates, the gap filler's context, the stop detector's
    window means and the smoother's maximum-likelihood strength (which would
-   loosen to follow the spike).
+   loosen to follow the spike). This step also removes the catch-up after a
+   signal-loss gap.
 2. **Fill gaps** next: it needs clean context on both sides, and it refills the
-   holes the spike step leaves where a catch-up run was removed.
+   holes the spike step leaves where a catch-up run was removed. Removing a
+   catch-up lengthens its gap; the longest gap filled is measured on the gap as
+   recorded, i.e. ``max_gap_s`` is raised by the longest catch-up removed
+   (``info["catch_up_extra_s"]`` of the spike step), so that a gap short enough
+   to fill stays fillable.
 3. **Collapse stops** before smoothing: the smoother then sees a traveller who
    really stands still instead of metres of jitter, so the strength it picks
    fits the moving parts, and the stops add no distance.
@@ -22,24 +27,33 @@ Order of the steps, and why
 
 Steps that need timestamps (spikes, gaps, stops) leave untimed segments alone.
 Cleaned tracks are estimates, not surveyed data, and are not for navigation.
+
+Work done once: each track is projected to the plane once
+(:func:`editor.processing.cleaning_base.planar`, centred on the track as
+read) and after each step only the rows it moved or inserted are projected
+again (:func:`~editor.processing.cleaning_base.replan`); each step is given the
+totals the previous step computed as its ``before``; the smoother skips its
+posterior standard deviations, which the batch result does not keep.
 """
 from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field, replace
-from typing import Callable
+from typing import TYPE_CHECKING, Callable
 
 import numpy as np
 
 from ..model.document import Document, Route, Track
 from .activity import Activity
-from .cleaning_base import activity_for, planar
+from .cleaning_base import activity_for, planar, replan
 from .gaps import GapParams, fill_gaps
-from .simplify import SimplifyParams, simplify
 from .smoothing import SmoothParams, smooth
 from .spikes import SpikeParams, despike
 from .stats import StatsParams, Totals, track_totals
 from .stops import StopParams, collapse_stops
+
+if TYPE_CHECKING:  # simplify (and shapely) is imported only when the step is asked for
+    from .simplify import SimplifyParams
 
 CAUTION = "Cleaned tracks are estimates, not surveyed data, and are not for navigation."
 
@@ -64,7 +78,7 @@ class CleanParams:
     fill_gaps: GapParams | None = field(default_factory=GapParams)
     collapse_stops: StopParams | None = field(default_factory=StopParams)
     smooth: SmoothParams | None = field(default_factory=SmoothParams)
-    simplify: SimplifyParams | None = None
+    simplify: "SimplifyParams | None" = None
     stats_params: StatsParams = field(default_factory=StatsParams)
 
 
@@ -110,8 +124,17 @@ def _steps(params: CleanParams, activity: Activity):
         return replace(p, activity=activity) if getattr(p, "activity", None) == "auto" else p
 
     chosen = [(despike, params.despike), (fill_gaps, params.fill_gaps), (collapse_stops, params.collapse_stops),
-              (smooth, params.smooth), (simplify, params.simplify)]
+              (smooth, params.smooth)]
+    if params.simplify is not None:
+        from .simplify import simplify
+
+        chosen.append((simplify, params.simplify))
     return [(fn, with_activity(p)) for fn, p in chosen if p is not None]
+
+
+#: Extra arguments of the steps that take them: the shared plane, known totals, no unused std.
+_TAKES_PLANE = {despike, fill_gaps, collapse_stops, smooth}
+_EXTRA = {smooth: {"want_std": False}}
 
 
 def _scalars(info: dict) -> dict:
@@ -128,21 +151,33 @@ def clean_document(doc: Document, params: CleanParams = CleanParams(),
     """
     out = copy_document(doc)
     report = CleanReport(before=Totals(), after=Totals())
-    plans = []
+    plans, planes = [], []
     for index, track in enumerate(out.tracks):
-        activity = activity_for(planar(track), params.activity) if len(track.points) else None
+        plane = planar(track) if len(track.points) else None
+        activity = activity_for(plane, params.activity) if plane is not None else None
         report.activities.append(activity.name if activity else "")
         plans.append(_steps(params, activity) if activity else [])
+        planes.append(plane)
     total = max(1, sum(len(p) for p in plans))
     done = 0
     for index, steps in enumerate(plans):
-        for fn, step_params in steps:
+        plane, before = planes[index], None
+        for number, (fn, step_params) in enumerate(steps):
             if progress is not None:
                 progress(done / total, f"track {index + 1}: {fn.__name__.replace('_', ' ')}")
             track = out.tracks[index]
-            proposal = fn(track, step_params, track_index=index, stats_params=params.stats_params)
+            extra = dict(_EXTRA.get(fn, {}))
+            if fn in _TAKES_PLANE:
+                extra.update(plane=plane, before=before)
+            proposal = fn(track, step_params, track_index=index, stats_params=params.stats_params, **extra)
             if not proposal.is_noop():
                 proposal.edit().apply(out)
+                if number + 1 < len(steps):
+                    plane = replan(plane, out.tracks[index], proposal.source_rows, proposal.changed)
+            before = proposal.after
+            if fn is despike and proposal.info.get("catch_up_extra_s", 0.0) > 0:
+                steps[number + 1:] = [(f, replace(p, max_gap_s=p.max_gap_s + proposal.info["catch_up_extra_s"]))
+                                      if f is fill_gaps else (f, p) for f, p in steps[number + 1:]]
             report.steps.append(StepReport(
                 tool=proposal.tool, label=proposal.label, track=index, removed=len(proposal.removed),
                 inserted=len(proposal.inserted), changed=int(proposal.changed.sum()), before=proposal.before,

@@ -78,8 +78,13 @@ class Proposal:
 
 def make_proposal(tool: str, label: str, track_index: int, original: Track, points: PointTable,
                   segment_starts: np.ndarray, source_rows: np.ndarray,
-                  stats_params: StatsParams = StatsParams(), **kwargs: Any) -> Proposal:
-    """Fill in ``changed``, ``removed`` and the before/after totals from the new content."""
+                  stats_params: StatsParams = StatsParams(), *, before: Totals | None = None,
+                  **kwargs: Any) -> Proposal:
+    """Fill in ``changed``, ``removed`` and the before/after totals from the new content.
+
+    ``before``: the totals of ``original`` with ``stats_params`` when the caller already has
+    them (a chain of tools: the previous proposal's ``after``); computed when ``None``.
+    """
     source_rows = np.asarray(source_rows, dtype=np.int64)
     segment_starts = np.asarray(segment_starts, dtype=np.int64)
     old = original.points
@@ -99,5 +104,6 @@ def make_proposal(tool: str, label: str, track_index: int, original: Track, poin
                      segment_extra=list(original.segment_extra) if extra is None else list(extra))
     return Proposal(tool=tool, label=label, track=track_index, points=points,
                     segment_starts=segment_starts, source_rows=source_rows, changed=changed,
-                    removed=removed, before=track_totals(original, stats_params),
+                    removed=removed,
+                    before=track_totals(original, stats_params) if before is None else before,
                     after=track_totals(proposed, stats_params), segment_extra=extra, **kwargs)

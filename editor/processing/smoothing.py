@@ -36,12 +36,12 @@ from dataclasses import dataclass
 from typing import Callable
 
 import numpy as np
-from scipy.optimize import minimize_scalar
 
 from ..geo.projection import LocalProjection
 from ..model.document import Track
 from .kalman import Problem
 from .proposal import Proposal, make_proposal
+from .scalar_search import bounded_minimum
 from .stats import StatsParams
 
 #: log10 of q at strength 0 and 100 per axis (m^2/s^3). At the default sigmas the
@@ -172,7 +172,8 @@ def _segment_times(t: np.ndarray, x: np.ndarray, y: np.ndarray) -> np.ndarray | 
     return out if not np.any(np.diff(out) < 0) else None
 
 
-def _track_arrays(track: Track, rows) -> _TrackArrays:
+def _track_arrays(track: Track, rows, plane=None) -> _TrackArrays:
+    """The rows to smooth; ``plane`` (the whole track's ``PlanarTrack``) saves projecting again."""
     p = track.points
     bounds = [(a, b) for a, b in track.segment_bounds() if b > a]
     if rows is not None:
@@ -182,9 +183,14 @@ def _track_arrays(track: Track, rows) -> _TrackArrays:
     all_rows = np.concatenate(seg_rows) if seg_rows else np.zeros(0, dtype=np.int64)
     whole = len(all_rows) == len(p)
     take = (lambda col: col) if whole else (lambda col: col[all_rows])
-    lat, lon = take(p.lat), take(p.lon)
-    projection = LocalProjection.centred_on(lat, lon)
-    x, y = projection.to_xy(lat, lon)
+    if plane is not None:
+        if len(plane.x) != len(p):
+            raise ValueError(f"the plane has {len(plane.x)} rows but the track has {len(p)} points")
+        projection, x, y = plane.projection, take(plane.x), take(plane.y)
+    else:
+        lat, lon = take(p.lat), take(p.lon)
+        projection = LocalProjection.centred_on(lat, lon)
+        x, y = projection.to_xy(lat, lon)
     t_all = take(p.time_s())
     starts = np.cumsum([0] + [len(r) for r in seg_rows[:-1]]).astype(np.int64)
     t = np.empty(len(all_rows))
@@ -236,17 +242,14 @@ def _fit_axis(problem: Problem, axis: str, fixed_q: float | None, estimate_noise
     if fixed_q is not None and not estimate_noise:
         return fixed_q, 1.0, problem.loglik(fixed_q)
     if fixed_q is not None:
-        best = minimize_scalar(negative, bounds=(-4.0, 4.0), method="bounded",
-                               args=(lambda s: problem.loglik(fixed_q, s),),
-                               options={"xatol": LOG10_Q_TOLERANCE})
+        best = bounded_minimum(lambda v: negative(v, lambda s: problem.loglik(fixed_q, s)), -4.0, 4.0,
+                               LOG10_Q_TOLERANCE)
         return fixed_q, 10.0 ** best.x, -best.fun
     if not estimate_noise:
-        best = minimize_scalar(negative, bounds=(lo, hi), method="bounded",
-                               args=(problem.loglik,), options={"xatol": LOG10_Q_TOLERANCE})
+        best = bounded_minimum(lambda v: negative(v, problem.loglik), lo, hi, LOG10_Q_TOLERANCE)
         return 10.0 ** best.x, 1.0, -best.fun
-    best = minimize_scalar(negative, bounds=(lo, hi), method="bounded",
-                           args=(lambda ratio: problem.concentrated(ratio)[0],),
-                           options={"xatol": LOG10_Q_TOLERANCE})
+    best = bounded_minimum(lambda v: negative(v, lambda ratio: problem.concentrated(ratio)[0]), lo, hi,
+                           LOG10_Q_TOLERANCE)
     ll, scale = problem.concentrated(10.0 ** best.x)
     return 10.0 ** best.x * scale, scale, ll
 
@@ -314,7 +317,8 @@ def estimate_strength(track: Track, rows=None, *, params: SmoothParams = SmoothP
 
 
 def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, track_index: int = 0,
-           stats_params: StatsParams = StatsParams()) -> Proposal:
+           stats_params: StatsParams = StatsParams(), plane=None, before=None,
+           want_std: bool = True) -> Proposal:
     """Propose the smoothed track.
 
     ``rows``: sorted row indices of the user's selection; only they change, while whole
@@ -322,11 +326,15 @@ def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, tr
     selection's own measurements for the estimate). ``info`` holds the q, r and
     strength values used, the log-likelihoods, per-row ``speed_mps`` from the smoothed
     velocity and ``max_speed_smoothed_mps``; ``sigma_h_m`` (per horizontal axis) and
-    ``sigma_v_m`` are the posterior standard deviations of the changed rows.
+    ``sigma_v_m`` are the posterior standard deviations of the changed rows (``None`` with
+    ``want_std=False``, which saves their computation when nobody shows them).
+
+    ``plane``: the track already projected (:func:`editor.processing.cleaning_base.planar`, any
+    projection), used instead of projecting it again; ``before``: the track's totals, if known.
     """
     n = len(track.points)
     chosen = None if rows is None else np.unique(np.asarray(rows, dtype=np.int64))
-    arrays = _track_arrays(track, chosen)
+    arrays = _track_arrays(track, chosen, plane)
     problems = _problems(arrays, params)
     automatic = any(problems[axis] is not None and strength is None for axis, strength in (
         ("horizontal", params.horizontal_strength), ("vertical", params.vertical_strength)))
@@ -348,7 +356,7 @@ def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, tr
         sigma = params.horizontal_sigma_m if axis == "horizontal" else params.vertical_sigma_m
         if r != sigma ** 2:  # estimated noise: rebuild with the scaled variances
             problem = Problem(problem.t, problem.z, problem.r * (r / sigma ** 2), starts=arrays.starts)
-        results[axis] = problem.smooth(q, want_std=True)
+        results[axis] = problem.smooth(q, want_std=want_std)
 
     if "horizontal" in results:
         res = results["horizontal"]
@@ -358,8 +366,9 @@ def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, tr
         same = (x_hat == arrays.x[at]) & (y_hat == arrays.y[at])
         points.lat[write] = np.where(same, points.lat[write], lat)
         points.lon[write] = np.where(same, points.lon[write], lon)
-        sigma_h = np.full(n, np.nan)
-        sigma_h[write] = np.sqrt(0.5 * (res.position_std[at, 0] ** 2 + res.position_std[at, 1] ** 2))
+        if want_std:
+            sigma_h = np.full(n, np.nan)
+            sigma_h[write] = np.sqrt(0.5 * (res.position_std[at, 0] ** 2 + res.position_std[at, 1] ** 2))
         timed = arrays.timed[at]
         speed[write] = np.where(timed, np.hypot(res.velocity[at, 0], res.velocity[at, 1]), np.nan)
     if "vertical" in results:
@@ -367,8 +376,9 @@ def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, tr
         ele_hat = res.position[at, 0]
         had = np.isfinite(points.ele[write])
         points.ele[write] = np.where(had, ele_hat, points.ele[write])
-        sigma_v = np.full(n, np.nan)
-        sigma_v[write] = np.where(had, res.position_std[at, 0], np.nan)
+        if want_std:
+            sigma_v = np.full(n, np.nan)
+            sigma_v[write] = np.where(had, res.position_std[at, 0], np.nan)
 
     finite_speed = speed[np.isfinite(speed)]
     info = {
@@ -387,4 +397,4 @@ def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, tr
         "caution": CAUTION,
     }
     return make_proposal("smooth", "Smooth track", track_index, track, points, track.segment_starts,
-                         np.arange(n), stats_params, sigma_h_m=sigma_h, sigma_v_m=sigma_v, info=info)
+                         np.arange(n), stats_params, before=before, sigma_h_m=sigma_h, sigma_v_m=sigma_v, info=info)

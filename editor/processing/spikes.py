@@ -1,6 +1,6 @@
 """Spikes and catch-up jumps: find fixes the traveller cannot have been at, and propose removing them.
 
-Two tests, each on its own kind of fault.
+Three tests, each on its own kind of fault.
 
 1. Innovation gate (isolated spikes, horizontal and vertical)
 -------------------------------------------------------------
@@ -8,7 +8,7 @@ The constant-velocity Kalman filter of :mod:`editor.processing.kalman` predicts
 each fix from the ones before it; the normalised innovation squared
 ``NIS = sum(nu^2 / s)`` of a correct fix follows a chi-square law with one degree
 of freedom per axis. A fix is gated out when its NIS exceeds the ``confidence``
-quantile of ``scipy.stats.chi2`` (see :func:`gate`): at the default 99.9 % that is
+quantile of the chi-square law (see :func:`gate`): at the default 99.9 % that is
 13.82 for the two horizontal axes and 10.83 for elevation, i.e. about one good
 fix in a thousand is questioned by chance.
 
@@ -26,8 +26,15 @@ itself (median absolute residual of each fix against its neighbours'
 interpolation, see :func:`editor.processing.cleaning_base.noise_sigma`) and
 never taken below ``min_*_sigma_m``; process noise comes from the activity.
 
-2. Speed and acceleration (runs: catch-up after signal loss, cold starts)
-------------------------------------------------------------------------
+2. Catch-up after signal loss
+-----------------------------
+The first fixes after a signal-loss gap are tested against the backward
+prediction from the clean track that follows the gap; see
+:mod:`editor.processing.catch_up`. They are proposed for removal with reason
+``"catch-up"``, so that the gap tool refills them along with the gap.
+
+3. Speed and acceleration (runs: gross catch-up, cold starts)
+-------------------------------------------------------------
 After a tunnel or a cold start a receiver often reports a few fixes far away
 that converge on the true position within seconds. Each fix agrees with its
 neighbours, so the gate may pass them, but getting there and back needs an
@@ -51,15 +58,15 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.special import chdtri
 
 from ..model.document import Track
 from .activity import Activity
-from .cleaning_base import (PlanarTrack, activity_for, keep_proposal, noise_sigma, planar, selection_mask,
-                            timed_segments, true_runs, window_speed)
+from .catch_up import CatchUpSettings, catch_up_rows
+from .cleaning_base import (PlanarTrack, activity_for, chi2_quantile, keep_proposal, noise_sigma, plane_of,
+                            selection_mask, timed_segments, true_runs, window_speed)
 from .kalman import innovations, rts_smooth
 from .proposal import Proposal
-from .stats import StatsParams
+from .stats import StatsParams, Totals
 
 #: Rows of context on each side of a questioned fix in the robust stage.
 CONTEXT_ROWS = 25
@@ -90,6 +97,14 @@ class SpikeParams:
     min_vertical_sigma_m : floor of the elevation estimate, 1 m (the usual 1 m resolution).
     check_elevation : also gate elevations (a failed elevation removes the whole point).
     check_speed : run the speed and acceleration test.
+    check_catch_up : run the catch-up test after signal-loss gaps (module notes, test 2).
+    catch_up_window_s : seconds after a gap in which a catch-up is looked for (default 30 s, and
+        twice that when 30 s hold no run of passes; see :mod:`editor.processing.catch_up` for why
+        the window is short).
+    catch_up_context_s : seconds of track after the window (and before the gap) that predict it
+        and fit its process noise (default 120 s).
+    catch_up_passes : consecutive passing fixes that end a catch-up (default 5).
+    min_gap_s : shortest signal-loss gap, seconds (default 10 s, as the gap tool's).
     iterations : most rounds of the robust stage.
     noise_allowance : the speed test forgives this many sigmas (times sqrt 2) per step.
     trust_s : a piece of plausible steps lasting this long (seconds) is trusted.
@@ -109,15 +124,20 @@ class SpikeParams:
     noise_allowance: float = 3.0
     trust_s: float = 10.0
     max_zone_points: int = 400
+    check_catch_up: bool = True
+    catch_up_window_s: float = 30.0
+    catch_up_context_s: float = 120.0
+    catch_up_passes: int = 5
+    min_gap_s: float = 10.0
 
 
 def gate(confidence: float, dof: int) -> float:
     """Chi-square quantile used as the NIS gate: ``scipy.stats.chi2.ppf(confidence, dof)``.
 
-    Computed with ``scipy.special.chdtri`` (the inverse chi-square survival function that
-    ``chi2.ppf`` itself calls) because importing ``scipy.stats`` alone takes most of a second.
+    See :func:`editor.processing.cleaning_base.chi2_quantile` (closed forms for 1 and 2 degrees
+    of freedom; importing ``scipy.stats`` alone takes most of a second).
     """
-    return float(chdtri(dof, 1.0 - confidence))
+    return chi2_quantile(confidence, dof)
 
 
 def _dilate(mask: np.ndarray, reach: int) -> np.ndarray:
@@ -261,14 +281,18 @@ def speed_outliers(pt: PlanarTrack, activity: Activity, sigma_h: float, params: 
 
 
 def despike(track: Track, params: SpikeParams = SpikeParams(), *, rows=None, track_index: int = 0,
-            stats_params: StatsParams = StatsParams()) -> Proposal:
-    """Propose removing spikes (``reasons["spike"]``) and implausible runs (``reasons["speed"]``).
+            stats_params: StatsParams = StatsParams(), plane: PlanarTrack | None = None,
+            before: Totals | None = None) -> Proposal:
+    """Propose removing spikes (``reasons["spike"]``), catch-up after signal loss (``reasons["catch-up"]``)
+    and implausible runs (``reasons["speed"]``).
 
     Needs timestamps; segments without complete, ordered times are left alone. ``rows``
-    limits removals to the selection, the whole track being context. ``info`` gives the
-    activity, the sigmas and gates used and the counts.
+    limits removals to the selection, the whole track being context. ``plane``: the track
+    already projected (:func:`editor.processing.cleaning_base.planar`); ``before``: its totals,
+    if known. ``info`` gives the activity, the sigmas and gates used and the counts; for the
+    catch-up test see :func:`editor.processing.catch_up.catch_up_rows`.
     """
-    pt = planar(track)
+    pt = plane_of(track, plane)
     n = len(pt)
     allowed = selection_mask(n, rows)
     activity = activity_for(pt, params.activity)
@@ -299,17 +323,29 @@ def despike(track: Track, params: SpikeParams = SpikeParams(), *, rows=None, tra
             sigma_v = sigma_of(params.vertical_sigma_m, params.min_vertical_sigma_m, ele)
             spike[rows_t] |= gate_outliers(t, ele, sigma_v ** 2, activity.vertical_process_noise, gate_v, starts,
                                            params.iterations)
-    spike &= allowed
+    catch_up = np.zeros(n, dtype=bool)
+    catch_info = {}
+    if params.check_catch_up and len(rows_t) >= 3:
+        settings = CatchUpSettings(window_s=params.catch_up_window_s, context_s=params.catch_up_context_s,
+                                   passes=params.catch_up_passes, min_gap_s=params.min_gap_s,
+                                   confidence=params.confidence)
+        found, catch_info = catch_up_rows(t, pt.x[rows_t], pt.y[rows_t], pt.ele[rows_t], starts, ~spike[rows_t],
+                                          sigma_h, sigma_v, settings)
+        catch_up[rows_t] = found
+        catch_up &= allowed
+    spike &= allowed & ~catch_up  # a catch-up fix the gate also caught is reported as catch-up
     speed = np.zeros(n, dtype=bool)
     unresolved = 0
     if params.check_speed and len(rows_t) >= 3:
-        speed, unresolved = speed_outliers(pt, activity, sigma_h, params, timed & ~spike)
+        speed, unresolved = speed_outliers(pt, activity, sigma_h, params, timed & ~spike & ~catch_up)
         speed &= allowed
     info = {"activity": activity.name, "sigma_h_m": sigma_h, "sigma_v_m": sigma_v,
             "gate_h": gate_h, "gate_v": gate_v, "confidence": params.confidence,
-            "spikes": int(spike.sum()), "speed": int(speed.sum()), "unresolved_zones": unresolved}
-    return keep_proposal("despike", "Remove spikes", track_index, track, ~(spike | speed), stats_params,
-                         reasons={"spike": np.flatnonzero(spike), "speed": np.flatnonzero(speed)}, info=info)
+            "spikes": int(spike.sum()), "speed": int(speed.sum()), "catch_up": int(catch_up.sum()),
+            "unresolved_zones": unresolved, **catch_info}
+    return keep_proposal("despike", "Remove spikes", track_index, track, ~(spike | speed | catch_up), stats_params,
+                         before=before, reasons={"spike": np.flatnonzero(spike), "speed": np.flatnonzero(speed),
+                                                 "catch-up": np.flatnonzero(catch_up)}, info=info)
 
 
 __all__ = ["SpikeParams", "despike", "gate", "gate_outliers", "speed_outliers"]

@@ -37,10 +37,10 @@ import numpy as np
 
 from ..model.document import Track
 from .activity import Activity
-from .cleaning_base import (activity_for, planar, selection_mask, timed_segments, true_runs, values_proposal,
-                            window_speed)
+from .cleaning_base import (PlanarTrack, activity_for, plane_of, selection_mask, timed_segments, true_runs,
+                            values_proposal, window_speed)
 from .proposal import Proposal
-from .stats import StatsParams
+from .stats import StatsParams, Totals
 
 #: Percentile of the core points' distances to the stop's centre that sets the stop's radius.
 EDGE_QUANTILE = 95.0
@@ -121,18 +121,20 @@ def _grow(t_s, x, y, cx, cy, radius, first, last, lo_limit, hi_limit, window_s, 
 
 
 def collapse_stops(track: Track, params: StopParams = StopParams(), *, rows=None, track_index: int = 0,
-                   stats_params: StatsParams = StatsParams()) -> Proposal:
+                   stats_params: StatsParams = StatsParams(), plane: PlanarTrack | None = None,
+                   before: Totals | None = None) -> Proposal:
     """Propose moving the points of each stationary period onto one position.
 
     Needs timestamps; segments without complete, ordered times are left alone.
     ``rows`` (sorted row indices) limits the change to the selection; the whole
     track is used as context. ``reasons["stop"]`` lists the collapsed rows;
     ``info`` reports the number of stops, their total duration (s) and the
-    distance they no longer add (m).
+    distance they no longer add (m). ``plane``: the track already projected
+    (:func:`editor.processing.cleaning_base.planar`); ``before``: its totals, if known.
     """
     if params.elevation not in ("median", "keep"):
         raise ValueError(f"elevation must be 'median' or 'keep', not {params.elevation!r}")
-    pt = planar(track)
+    pt = plane_of(track, plane)
     n = len(pt)
     allowed = selection_mask(n, rows)
     activity = activity_for(pt, params.activity)
@@ -162,7 +164,7 @@ def collapse_stops(track: Track, params: StopParams = StopParams(), *, rows=None
             stop_count += 1
             stopped_s += float(t[last] - t[first])
     proposal = values_proposal("stops", "Collapse stops", track_index, track, {"lat": lat, "lon": lon, "ele": ele},
-                               stats_params, reasons={"stop": np.flatnonzero(collapsed)},
+                               stats_params, before, reasons={"stop": np.flatnonzero(collapsed)},
                                info={"activity": activity.name, "stop_speed_mps": threshold})
     proposal.info.update(stops=stop_count, stopped_s=stopped_s,
                          distance_removed_m=proposal.before.distance_m - proposal.after.distance_m)

@@ -4,7 +4,7 @@ import pytest
 from cleaning_tracks import track_from_xy, xy_of
 
 from editor.io.payload import is_inserted
-from editor.processing.gaps import GapParams, fill_gaps, find_gaps
+from editor.processing.gaps import GapParams, fill_gaps, find_gaps, monotone_bridge
 
 
 def walk_with_gap(gap=(300, 330), n=800, sigma=1.0, seed=0, radius=None, speed=2.0, ele=True):
@@ -115,3 +115,69 @@ def test_two_segments_and_no_elevation():
     assert np.isnan(prop.points.ele).all()
     assert prop.segment_starts.tolist() == [0, 630]
     assert np.array_equal(prop.source_rows[prop.source_rows >= 0], np.arange(len(two.points)))
+
+
+# ------------------------------------------------------------------ elevation across a long gap
+def test_bridge_is_the_smoothers_own_curve_when_it_is_already_monotone():
+    # With no measurement inside a gap the constant-velocity smoother's estimate is the cubic Hermite
+    # curve through the smoothed end states; scipy.interpolate.CubicHermiteSpline is the reference.
+    from scipy.interpolate import CubicHermiteSpline
+
+    from editor.processing.kalman import rts_smooth
+
+    rng = np.random.default_rng(0)
+    t = np.arange(210.0)
+    z = np.r_[100 + 0.2 * t[:60], np.full(90, np.nan), 130 + 0.1 * (t[150:] - 150)] + rng.normal(0, 1, 210)
+    res = rts_smooth(t, z, 1.0, 1e-3)
+    new = np.isnan(z)
+    fill, limited = monotone_bridge(t, res.position, res.velocity, new)
+    hermite = CubicHermiteSpline([59.0, 150.0], res.position[[59, 150]], res.velocity[[59, 150]])
+    assert limited == 0
+    assert np.allclose(fill, res.position[new], atol=1e-9)
+    assert np.allclose(fill, hermite(t[new]), atol=1e-9)
+
+
+def test_bridge_with_noisy_end_speeds_stays_between_the_ends():
+    # Fritsch & Carlson (1980): with both end slopes of the secant's sign and alpha^2 + beta^2 <= 9
+    # the cubic Hermite piece is monotone, hence within its end values. Random end speeds, including
+    # ones against the secant and ones far too steep.
+    rng = np.random.default_rng(1)
+    for _ in range(200):
+        span = rng.uniform(20, 200)
+        t = np.r_[0.0, np.linspace(0, span, 50)[1:-1], span]
+        value = np.r_[rng.normal(500, 20), np.zeros(48), rng.normal(500, 20)]
+        rate = np.r_[rng.normal(0, 2), np.zeros(48), rng.normal(0, 2)]
+        new = np.r_[False, np.ones(48, dtype=bool), False]
+        fill, _ = monotone_bridge(t, value, rate, new)
+        lo, hi = min(value[0], value[-1]), max(value[0], value[-1])
+        assert lo - 1e-9 <= fill.min() and fill.max() <= hi + 1e-9
+        steps = np.diff(np.r_[value[0], fill, value[-1]])
+        assert np.all(steps >= -1e-9) or np.all(steps <= 1e-9)
+
+
+def test_fill_does_not_invent_climb_across_a_long_gap():
+    # Flat truth at 500 m; in the 20 s before a 100 s gap the recorded elevation wanders up by 15 m
+    # (the slow wander of GNSS elevation), after it it is flat again. The smoother's bridge carries that
+    # upward speed into the gap and overshoots; the fill must stay between the heights at the two ends.
+    from editor.processing.kalman import rts_smooth
+
+    rng = np.random.default_rng(4)
+    n, gap = 400, (150, 250)
+    t = np.arange(n, dtype=float)
+    x, y = 1.4 * t, np.zeros(n)
+    ele = 500 + np.clip((t - 130) / 20, 0, 1) * 15 * (t < gap[0]) + rng.normal(0, 0.5, n)
+    keep = (t < gap[0]) | (t >= gap[1])
+    track = track_from_xy(x[keep] + rng.normal(0, 1, keep.sum()), y[keep], np.round(ele[keep]), t[keep])
+    prop = fill_gaps(track, GapParams(activity="walk"))
+    new = prop.reasons["inserted"]
+    assert len(new) == 100 and prop.info["ele_limited"] == 1
+    filled = prop.points.ele[new]
+    before, after = prop.points.ele[new[0] - 1], prop.points.ele[new[-1] + 1]
+    assert min(before, after) - 2.0 <= filled.min() and filled.max() <= max(before, after) + 2.0
+    # the constant-velocity bridge on the same context, unlimited, overshoots by far more
+    sel = (t >= gap[0] - 60) & (t < gap[1] + 60)
+    z = np.where(keep, np.round(ele), np.nan)[sel]
+    bridge = rts_smooth(t[sel], z, prop.info["sigma_v_m"] ** 2, prop.info["q_v"]).position[np.isnan(z)]
+    assert bridge.max() > max(before, after) + 5.0  # measured: 7 m
+    # and the climb the fill adds is no more than the step between the ends
+    assert np.abs(np.diff(filled)).sum() <= abs(after - before) + 2.0
