@@ -60,7 +60,7 @@ def _swatch(palette: Palette, kind: str, size: int = 22) -> QtGui.QPixmap:
 
 ENTRIES = (
     ("track", "Track now"),
-    ("faded", "Track, while previewing"),
+    ("faded", "Track (faded)"),
     ("proposal", "Proposal"),
     ("band", "95 % band (±1.96 σ)"),
     ("removed", "Removed point"),

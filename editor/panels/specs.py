@@ -25,7 +25,8 @@ TOOL_TEXTS: dict[str, tuple[str, str, dict[str, ControlSpec]]] = {
          "smooth_elevation": ControlSpec(label="Smooth elevation")}),
     "despike": (
         "Spikes",
-        "Finds single wild fixes (a jump out and straight back, an impossible speed) and removes them.",
+        "Finds wild fixes (a jump out and straight back, an impossible speed, the drift back to the road after "
+        "signal loss) and removes them; the Gaps tool can refill them.",
         {"confidence": ControlSpec(label="Gate confidence", minimum=0.9, maximum=0.999999, step=0.0005,
                                    decimals=6),
          "horizontal_sigma_m": ControlSpec(label="Position scatter σ", maximum=100, step=0.5, decimals=1,
@@ -40,7 +41,13 @@ TOOL_TEXTS: dict[str, tuple[str, str, dict[str, ControlSpec]]] = {
          "noise_allowance": ControlSpec(label="Noise allowance", maximum=10, step=0.5, decimals=1, suffix="σ"),
          "trust_s": ControlSpec(label="Trust a stretch after", maximum=600, step=1, decimals=0),
          "max_zone_points": ControlSpec(label="Largest zone", minimum=10, maximum=5000, step=50,
-                                        suffix="points")}),
+                                        suffix="points"),
+         "check_catch_up": ControlSpec(label="Check fixes after signal loss"),
+         "catch_up_window_s": ControlSpec(label="… for the first", minimum=5, maximum=300, step=5, decimals=0),
+         "catch_up_context_s": ControlSpec(label="… judged on the next", minimum=10, maximum=600, step=10,
+                                           decimals=0),
+         "catch_up_passes": ControlSpec(label="… settled after", minimum=1, maximum=50, suffix="good fixes"),
+         "min_gap_s": ControlSpec(label="Signal loss: a gap over", maximum=3600, step=1, decimals=0)}),
     "fill_gaps": (
         "Gaps",
         "Where the signal was lost, adds points along a plausible path so distance and time stay whole. "
