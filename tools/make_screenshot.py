@@ -18,7 +18,7 @@ os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
 #: Strengths shown in the screenshot's preview (0 keeps the recording, 100 smooths the most).
 POSITION_STRENGTH = 55
-ELEVATION_STRENGTH = 65
+ELEVATION_STRENGTH = 50
 #: The map is centred on the point this far along the track (the switchbacks below the saddle),
 #: the profile's crosshair rests on it.
 FOCUS_FRACTION = 0.42
