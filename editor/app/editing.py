@@ -25,6 +25,7 @@ class EditOps:
         self.revision = 0
         self.pending_selection = None
         self._snapshot: tuple[int, int, Track] | None = None
+        self._strength_cache: dict = {}
         self.cancel_button.clicked.connect(self.cancel_long_job)
 
     # --- hand edits -------------------------------------------------------------------------------
@@ -147,15 +148,54 @@ class EditOps:
         track_index = self.state.track
 
         lat0, lon0 = self.projection.lat0, self.projection.lon0
+        strengths = self._cached_strengths(function, params, rows)
 
         def work():
-            proposal = function(snapshot, params, rows=rows, track_index=track_index)
+            proposal = function(snapshot, strengths(snapshot, params), rows=rows, track_index=track_index)
             # Project the proposal for the map here, off the UI thread (pyproj objects stay
             # in the thread that made them).
             xy = LocalProjection(lat0, lon0).to_xy(proposal.points.lat, proposal.points.lon)
             return proposal, xy
 
         self.preview_runner.request(work, immediately=immediately)
+
+    def _cached_strengths(self, function, params: Any, rows):
+        """For smoothing with an automatic strength: estimate it once per track state, not per preview.
+
+        Moving one strength control re-runs the tool; the other axis' maximum-likelihood
+        estimate does not change with it, so it is kept (per document revision, selection and
+        noise settings) and handed to the tool as a fixed strength. Returns a function
+        ``(snapshot, params) -> params`` for the worker.
+        """
+        from dataclasses import replace
+
+        from ..processing.smoothing import SmoothParams, estimate_strength
+
+        if not isinstance(params, SmoothParams) or params.estimate_noise:
+            return lambda _snapshot, p: p
+        base = (self.revision, self.state.track, None if rows is None else rows.tobytes(),
+                params.horizontal_sigma_m, params.vertical_sigma_m)
+        if self._strength_cache.get("revision") != self.revision:
+            self._strength_cache = {"revision": self.revision}
+        cache = self._strength_cache
+        wanted = {axis: getattr(params, f"{axis}_strength") is None and getattr(params, f"smooth_{flag}")
+                  for axis, flag in (("horizontal", "horizontal"), ("vertical", "elevation"))}
+
+        def fill(snapshot, p):
+            missing = [axis for axis, auto in wanted.items() if auto and (base, axis) not in cache]
+            if missing:
+                # Estimate only the axes not known yet; the others get a placeholder fixed strength.
+                ask = replace(p, **{f"{axis}_strength": (None if axis in missing else 50.0) for axis in wanted})
+                estimate = estimate_strength(snapshot, rows, params=ask)
+                for axis in missing:
+                    value = getattr(estimate, f"{axis}_strength")
+                    if np.isfinite(value):
+                        cache[(base, axis)] = float(value)
+            known = {f"{axis}_strength": cache[(base, axis)] for axis, auto in wanted.items()
+                     if auto and (base, axis) in cache}
+            return replace(p, **known) if known else p
+
+        return fill
 
     def _preview_ready(self, result) -> None:
         proposal, xy = result

@@ -18,6 +18,7 @@ os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(ROOT / "tests" / "gui"))
+sys.path.insert(0, str(ROOT / "tests"))  # gui_support finds shared_files there
 
 import numpy as np  # noqa: E402
 import psutil  # noqa: E402

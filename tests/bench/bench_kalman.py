@@ -84,7 +84,8 @@ def transition(h):
     return f
 
 
-def statsmodels_axis(t, z, r, q, want_cov):
+def statsmodels_model(t, z, r, q):
+    """statsmodels' state-space form of the same constant-velocity model for one axis."""
     h = np.append(np.diff(t), 0.0)
     ks = KalmanSmoother(k_endog=1, k_states=2, k_posdef=2)
     ks.bind(z.reshape(1, -1).copy())
@@ -94,22 +95,18 @@ def statsmodels_axis(t, z, r, q, want_cov):
     ks["selection"] = np.eye(2)
     ks["state_cov"] = q * unit_q(h)
     ks.initialize_diffuse()
+    return ks
+
+
+def statsmodels_axis(t, z, r, q, want_cov):
+    ks = statsmodels_model(t, z, r, q)
     ks.set_smoother_output(0, smoother_state=True, smoother_state_cov=want_cov)
     return ks.smooth()
 
 
 def statsmodels_loglik(t, z, r, q):
     """statsmodels' log-likelihood of one axis: the Kalman filter only."""
-    h = np.append(np.diff(t), 0.0)
-    ks = KalmanSmoother(k_endog=1, k_states=2, k_posdef=2)
-    ks.bind(z.reshape(1, -1).copy())
-    ks["design"] = np.array([[1.0, 0.0]])
-    ks["obs_cov"] = np.array([[r]])
-    ks["transition"] = transition(h)
-    ks["selection"] = np.eye(2)
-    ks["state_cov"] = q * unit_q(h)
-    ks.initialize_diffuse()
-    return ks.loglike()
+    return statsmodels_model(t, z, r, q).loglike()
 
 
 def statsmodels_all(t, z, want_cov):
