@@ -122,3 +122,29 @@ def test_strength_estimate_runs_with_progress_and_fills_the_controls(demo, qtbot
     v = panel.controls["vertical_strength"].value()
     assert h is not None and v is not None and 0 <= h <= 100 and 0 <= v <= 100
     _wait_preview(qtbot, window)
+
+
+def test_automatic_strength_is_estimated_once_per_track_state(demo, qtbot, monkeypatch):
+    import editor.processing.smoothing as smoothing
+    from editor.model import DeletePoints
+
+    calls = []
+    real = smoothing.estimate_strength
+    monkeypatch.setattr(smoothing, "estimate_strength", lambda *a, **k: calls.append(1) or real(*a, **k))
+    window = demo
+    panel = window.tool_dock.panel("smooth")
+    window.tool_dock.show_panel(panel)
+    panel.controls["vertical_strength"].set_value(None)      # elevation stays automatic
+    previous = window.state.preview
+    for strength in (30, 45, 60):                            # the user moves the position strength
+        panel.controls["horizontal_strength"].set_value(strength)
+        panel.preview_button.click()
+        previous = _wait_preview(qtbot, window, previous)
+        assert previous.info["horizontal_strength"] == pytest.approx(strength)
+    assert len(calls) == 1
+    # An edit changes the track: the next preview estimates again.
+    window.push_edit(DeletePoints(0, np.array([10])), "Delete 1 point")
+    qtbot.wait(30)
+    panel.preview_button.click()
+    _wait_preview(qtbot, window, None)
+    assert len(calls) == 2
