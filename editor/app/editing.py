@@ -1,6 +1,7 @@
 """The window's editing side: hand edits as undo commands, tool previews, apply and discard."""
 from __future__ import annotations
 
+import inspect
 from typing import Any
 
 import numpy as np
@@ -10,6 +11,7 @@ from ..commands import EditCommand
 from ..commands import hand_edits
 from ..geo.projection import LocalProjection
 from ..model.document import Track
+from ..processing.stats import track_totals
 from .workers import LongJob, PreviewRunner, snapshot_track
 
 
@@ -148,10 +150,23 @@ class EditOps:
         track_index = self.state.track
 
         lat0, lon0 = self.projection.lat0, self.projection.lon0
+        # What previews may reuse (estimated strengths, the track's totals) belongs to one track state.
+        state_key = (self.revision, self.state.track)
+        if self._strength_cache.get("state") != state_key:
+            self._strength_cache = {"state": state_key}
         strengths = self._cached_strengths(function, params, rows)
 
+        extra = self._tool_extras(function)
+        cache = self._strength_cache
+
         def work():
-            proposal = function(snapshot, strengths(snapshot, params), rows=rows, track_index=track_index)
+            kwargs = dict(extra)
+            if "before" in kwargs:  # the shown track's totals, once per document revision
+                if cache.get("before") is None:
+                    cache["before"] = track_totals(snapshot)
+                kwargs["before"] = cache["before"]
+            proposal = function(snapshot, strengths(snapshot, params), rows=rows, track_index=track_index,
+                                **kwargs)
             # Project the proposal for the map here, off the UI thread (pyproj objects stay
             # in the thread that made them).
             xy = LocalProjection(lat0, lon0).to_xy(proposal.points.lat, proposal.points.lon)
@@ -159,12 +174,21 @@ class EditOps:
 
         self.preview_runner.request(work, immediately=immediately)
 
+    @staticmethod
+    def _tool_extras(function) -> dict:
+        """Keyword arguments that save a tool work in previews, for the tools that take them."""
+        accepted = inspect.signature(function).parameters
+        extra = {"before": None} if "before" in accepted else {}
+        if "want_std" in accepted:
+            extra["want_std"] = "vertical"  # only the profile draws an uncertainty band
+        return extra
+
     def _cached_strengths(self, function, params: Any, rows):
         """For smoothing with an automatic strength: estimate it once per track state, not per preview.
 
         Moving one strength control re-runs the tool; the other axis' maximum-likelihood
-        estimate does not change with it, so it is kept (per document revision, selection and
-        noise settings) and handed to the tool as a fixed strength. Returns a function
+        estimate does not change with it, so it is kept (per track state, selection and noise
+        settings) and handed to the tool as a fixed strength. Returns a function
         ``(snapshot, params) -> params`` for the worker.
         """
         from dataclasses import replace
@@ -173,10 +197,8 @@ class EditOps:
 
         if not isinstance(params, SmoothParams) or params.estimate_noise:
             return lambda _snapshot, p: p
-        base = (self.revision, self.state.track, None if rows is None else rows.tobytes(),
+        base = (None if rows is None else rows.tobytes(),
                 params.horizontal_sigma_m, params.vertical_sigma_m)
-        if self._strength_cache.get("revision") != self.revision:
-            self._strength_cache = {"revision": self.revision}
         cache = self._strength_cache
         wanted = {axis: getattr(params, f"{axis}_strength") is None and getattr(params, f"smooth_{flag}")
                   for axis, flag in (("horizontal", "horizontal"), ("vertical", "elevation"))}

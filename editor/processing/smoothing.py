@@ -318,7 +318,7 @@ def estimate_strength(track: Track, rows=None, *, params: SmoothParams = SmoothP
 
 def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, track_index: int = 0,
            stats_params: StatsParams = StatsParams(), plane=None, before=None,
-           want_std: bool = True) -> Proposal:
+           want_std: bool | str = True) -> Proposal:
     """Propose the smoothed track.
 
     ``rows``: sorted row indices of the user's selection; only they change, while whole
@@ -327,7 +327,8 @@ def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, tr
     strength values used, the log-likelihoods, per-row ``speed_mps`` from the smoothed
     velocity and ``max_speed_smoothed_mps``; ``sigma_h_m`` (per horizontal axis) and
     ``sigma_v_m`` are the posterior standard deviations of the changed rows (``None`` with
-    ``want_std=False``, which saves their computation when nobody shows them).
+    ``want_std=False``, which saves their computation when nobody shows them; ``"horizontal"`` or
+    ``"vertical"`` computes that axis group's only, e.g. for the profile's band).
 
     ``plane``: the track already projected (:func:`editor.processing.cleaning_base.planar`, any
     projection), used instead of projecting it again; ``before``: the track's totals, if known.
@@ -356,7 +357,7 @@ def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, tr
         sigma = params.horizontal_sigma_m if axis == "horizontal" else params.vertical_sigma_m
         if r != sigma ** 2:  # estimated noise: rebuild with the scaled variances
             problem = Problem(problem.t, problem.z, problem.r * (r / sigma ** 2), starts=arrays.starts)
-        results[axis] = problem.smooth(q, want_std=want_std)
+        results[axis] = problem.smooth(q, want_std=want_std is True or want_std == axis)
 
     if "horizontal" in results:
         res = results["horizontal"]
@@ -366,7 +367,7 @@ def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, tr
         same = (x_hat == arrays.x[at]) & (y_hat == arrays.y[at])
         points.lat[write] = np.where(same, points.lat[write], lat)
         points.lon[write] = np.where(same, points.lon[write], lon)
-        if want_std:
+        if res.position_std is not None:
             sigma_h = np.full(n, np.nan)
             sigma_h[write] = np.sqrt(0.5 * (res.position_std[at, 0] ** 2 + res.position_std[at, 1] ** 2))
         timed = arrays.timed[at]
@@ -376,7 +377,7 @@ def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, tr
         ele_hat = res.position[at, 0]
         had = np.isfinite(points.ele[write])
         points.ele[write] = np.where(had, ele_hat, points.ele[write])
-        if want_std:
+        if res.position_std is not None:
             sigma_v = np.full(n, np.nan)
             sigma_v[write] = np.where(had, res.position_std[at, 0], np.nan)
 

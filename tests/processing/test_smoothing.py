@@ -248,3 +248,13 @@ def test_proposal_applies_and_reverts_on_the_document():
     assert doc.tracks[0].points.equals(prop.points)
     inverse.apply(doc)
     assert doc.tracks[0].points.equals(original)
+
+
+def test_standard_deviation_of_one_axis_group_only():
+    track, *_ = simulate(300)
+    params = S.SmoothParams(horizontal_strength=40.0, vertical_strength=40.0)
+    both = S.smooth(track, params)
+    vertical = S.smooth(track, params, want_std="vertical")
+    assert vertical.sigma_h_m is None
+    np.testing.assert_array_equal(vertical.sigma_v_m, both.sigma_v_m)
+    assert vertical.points.equals(both.points)
