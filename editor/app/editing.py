@@ -31,9 +31,16 @@ class EditOps:
         self.cancel_button.clicked.connect(self.cancel_long_job)
 
     # --- hand edits -------------------------------------------------------------------------------
-    def push_edit(self, edit, label: str) -> None:
-        """Apply ``edit`` as one undo step named ``label``."""
+    def push_edit(self, edit, label: str) -> bool:
+        """Apply ``edit`` as one undo step named ``label`` (refused while the document is read-only)."""
+        if self.read_only:
+            self.statusBar().showMessage(
+                "These points were salvaged from a damaged file and are read-only: "
+                "save a cleaned copy first (Ctrl+S), then edit the copy.", 8000)
+            self._rebuild_timer.start()  # a drag already drew the point moved: show the model again
+            return False
         self.undo_stack.push(EditCommand(self.doc, edit, label))
+        return True
 
     def _hand_edit(self, build, label: str) -> bool:
         track = self.track()
@@ -44,8 +51,7 @@ class EditOps:
         except hand_edits.HandEditError as err:
             self.statusBar().showMessage(str(err), 6000)
             return False
-        self.push_edit(edit, label)
-        return True
+        return self.push_edit(edit, label)
 
     def move_point(self, row: int, x_m: float, y_m: float) -> None:
         self._hand_edit(lambda t: hand_edits.move_point(t, self.state.track, row, x_m, y_m, self.projection),
@@ -242,7 +248,8 @@ class EditOps:
         if proposal.is_noop():
             self.statusBar().showMessage("The proposal changes nothing.", 5000)
             return False
-        self.push_edit(proposal.edit(), proposal.label)
+        if not self.push_edit(proposal.edit(), proposal.label):
+            return False
         self.recovery.record_now()
         self.statusBar().showMessage(f"Applied: {proposal.label}", 5000)
         return True

@@ -51,10 +51,12 @@ class FileOps:
                 answer = QtWidgets.QMessageBox.question(
                     self, "File is incomplete",
                     f"{err}\n\nThe file stops early. Open the {partial.point_count:,} points read before "
-                    "the problem? Saving will then write only those points.")
+                    "the problem, read-only? Saving a cleaned copy writes only those points; the copy "
+                    "can then be edited. The damaged file is never changed.")
                 if answer == QtWidgets.QMessageBox.StandardButton.Yes:
-                    self.set_document(partial, path)
+                    self.set_document(partial, path, read_only=True)
                     self.recovery.document_opened(None)  # the file cannot be read again to replay edits
+                    self.statusBar().showMessage(f"Salvaged {partial.point_count:,} points, read-only: {err}")
                     self._remember(path)
                     return True
                 return False
@@ -150,6 +152,12 @@ class FileOps:
         self.saved_copy_path = target
         self.undo_stack.setClean()
         self.recovery.discard()
+        if self.read_only:
+            # The salvaged points now live in a sound file of their own: work on that.
+            self.read_only = False
+            self.source_path = target
+            self.recovery.document_opened(target)
+            self.update_title()
         self.statusBar().showMessage(f"Saved cleaned copy: {target}", 8000)
         return True
 

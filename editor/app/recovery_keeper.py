@@ -47,7 +47,11 @@ class RecoveryKeeper(QtCore.QObject):
     def _stack_changed(self, _index: int) -> None:
         if self.journal is None or self.window.closing:
             return
-        if self.window.undo_stack.isClean():
+        try:
+            clean = self.window.undo_stack.isClean()
+        except RuntimeError:  # the stack announces its own clearing while Qt destroys it
+            return
+        if clean:
             self.journal.discard()
             self._timer.stop()
         elif not self._timer.isActive():

@@ -50,6 +50,7 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         self.state = EditorState()
         self.undo_stack = QtGui.QUndoStack(self)
         self.closing = False  # set once the window is going away: slots must not touch children
+        self.read_only = False
         self.recovery = RecoveryKeeper(self)
         self.projection = document_projection(self.doc)
         self.geometry_ = TrackGeometry.empty()
@@ -181,8 +182,13 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
             return None
         return self.doc.tracks[min(self.state.track, len(self.doc.tracks) - 1)]
 
-    def set_document(self, doc: Document, path: str | Path | None = None) -> None:
-        """Show ``doc`` (as read from ``path``); the undo history starts empty."""
+    def set_document(self, doc: Document, path: str | Path | None = None, read_only: bool = False) -> None:
+        """Show ``doc`` (as read from ``path``); the undo history starts empty.
+
+        ``read_only``: the points salvaged from a damaged file; edits are refused until the
+        user has saved them as a copy (which then becomes the document's file).
+        """
+        self.read_only = read_only
         self.discard_preview()
         self.doc.changed.disconnect(self._doc_changed)
         self.undo_stack.clear()
@@ -267,7 +273,8 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
 
     def update_title(self) -> None:
         name = self.source_path.name if self.source_path else "untitled"
-        self.setWindowTitle(f"{name}[*] — {APP_NAME}")
+        salvaged = " (salvaged, read-only)" if self.read_only else ""
+        self.setWindowTitle(f"{name}{salvaged}[*] — {APP_NAME}")
         self.setWindowModified(not self.undo_stack.isClean())
 
     # --- state reactions --------------------------------------------------------------------------

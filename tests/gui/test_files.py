@@ -126,10 +126,23 @@ def test_truncated_file_offers_the_points_read_so_far(window, dialogs, tmp_path,
     assert kind == "question" and "cut.gpx" in text and "line" in text
     shown = len(window.map_view.geometry)
     assert 0 < shown < len(read_gpx(ride_copy).tracks[0].points)
+    assert "read-only" in window.windowTitle()
+    # Salvaged points are read-only: edits are refused and say why.
+    window.state.set_selection([1])
+    window.delete_selection()
+    assert window.undo_stack.count() == 0 and "read-only" in window.statusBar().currentMessage()
     # Declining leaves the window on what it showed before.
     dialogs.question_answer = QtWidgets.QMessageBox.StandardButton.No
     assert not window.open_path(cut)
     assert len(window.map_view.geometry) == shown
+    # Saving a copy keeps the damaged file as it was and makes the copy the editable document.
+    copy = tmp_path / "cut-salvaged.gpx"
+    assert window.write_copy(copy)
+    assert cut.read_bytes() == data[: len(data) // 2]
+    assert len(read_gpx(copy).tracks[0].points) == shown
+    window.state.set_selection([1])
+    window.delete_selection()
+    assert window.undo_stack.count() == 1 and "read-only" not in window.windowTitle()
 
 
 def test_closing_with_unsaved_changes_asks_and_cancel_keeps_the_window(window, dialogs, ride_copy):
