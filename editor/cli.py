@@ -98,12 +98,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("-o", "--output", type=Path, required=True, help="output file: .gpx, .geojson or .csv")
     p.set_defaults(run=cmd_export)
 
-    try:
-        from . import cli_clean
-    except ImportError:  # the clean command lives in its own module
-        cli_clean = None
-    if cli_clean is not None:
-        cli_clean.add_parser(sub)
+    from . import cli_clean  # the clean command lives in its own module
+
+    cli_clean.add_parser(sub)
     return parser
 
 
