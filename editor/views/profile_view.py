@@ -82,6 +82,7 @@ class ProfileView(LinkedPlot):
         axis.setPen(pg.mkPen(self.palette["muted"]))
         axis.setTextPen(pg.mkPen(self.palette["ink"]))
         self.plotItem.setAxisItems({"bottom": axis})
+        self.cache_axes()
         self._update_labels()
         self.refresh_coordinates()
 
