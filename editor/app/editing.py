@@ -151,6 +151,8 @@ class EditOps:
         """Compute ``function(snapshot, params, rows=..., track_index=...)`` in the background."""
         snapshot = self.snapshot()
         if snapshot is None or not len(snapshot.points):
+            self.tool_dock.set_status("The shown track has no points to work on (the file may hold only "
+                                      "waypoints or routes).")
             return
         rows = self.state.selection.copy() if selection_only and len(self.state.selection) else None
         track_index = self.state.track
