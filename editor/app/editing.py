@@ -11,6 +11,7 @@ from ..commands import EditCommand
 from ..commands import hand_edits
 from ..geo.projection import LocalProjection
 from ..model.document import Track
+from ..processing.cleaning_base import planar
 from ..processing.stats import track_totals
 from .workers import LongJob, PreviewRunner, snapshot_track
 
@@ -169,10 +170,14 @@ class EditOps:
 
         def work():
             kwargs = dict(extra)
-            if "before" in kwargs:  # the shown track's totals, once per document revision
+            if "before" in kwargs:  # the shown track's totals, once per track state
                 if cache.get("before") is None:
                     cache["before"] = track_totals(snapshot)
                 kwargs["before"] = cache["before"]
+            if "plane" in kwargs:  # the shown track in metres, once per track state
+                if cache.get("plane") is None:
+                    cache["plane"] = planar(snapshot)
+                kwargs["plane"] = cache["plane"]
             proposal = function(snapshot, strengths(snapshot, params), rows=rows, track_index=track_index,
                                 **kwargs)
             # Project the proposal for the map here, off the UI thread (pyproj objects stay
@@ -186,7 +191,7 @@ class EditOps:
     def _tool_extras(function) -> dict:
         """Keyword arguments that save a tool work in previews, for the tools that take them."""
         accepted = inspect.signature(function).parameters
-        extra = {"before": None} if "before" in accepted else {}
+        extra = {name: None for name in ("before", "plane") if name in accepted}
         if "want_std" in accepted:
             extra["want_std"] = "vertical"  # only the profile draws an uncertainty band
         return extra
