@@ -28,7 +28,7 @@ class EditOps:
         self.revision = 0
         self.pending_selection = None
         self._snapshot: tuple[int, int, Track] | None = None
-        self._strength_cache: dict = {}
+        self._preview_cache: dict = {}
         self.cancel_button.clicked.connect(self.cancel_long_job)
 
     # --- hand edits -------------------------------------------------------------------------------
@@ -159,14 +159,14 @@ class EditOps:
         track_index = self.state.track
 
         lat0, lon0 = self.projection.lat0, self.projection.lon0
-        # What previews may reuse (estimated strengths, the track's totals) belongs to one track state.
+        # What previews may reuse (estimated strengths, totals, the track in metres) belongs to one track state.
         state_key = (self.revision, self.state.track)
-        if self._strength_cache.get("state") != state_key:
-            self._strength_cache = {"state": state_key}
+        if self._preview_cache.get("state") != state_key:
+            self._preview_cache = {"state": state_key}
         strengths = self._cached_strengths(function, params, rows)
 
         extra = self._tool_extras(function)
-        cache = self._strength_cache
+        cache = self._preview_cache
 
         def work():
             kwargs = dict(extra)
@@ -212,7 +212,7 @@ class EditOps:
             return lambda _snapshot, p: p
         base = (None if rows is None else rows.tobytes(),
                 params.horizontal_sigma_m, params.vertical_sigma_m)
-        cache = self._strength_cache
+        cache = self._preview_cache
         wanted = {axis: getattr(params, f"{axis}_strength") is None and getattr(params, f"smooth_{flag}")
                   for axis, flag in (("horizontal", "horizontal"), ("vertical", "elevation"))}
 
