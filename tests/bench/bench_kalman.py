@@ -15,15 +15,16 @@ import time
 from pathlib import Path
 
 import numpy as np
-from statsmodels.tsa.statespace.kalman_smoother import KalmanSmoother
 from statsmodels.tsa.statespace.mlemodel import MLEModel
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # tests/: the statsmodels reference
 
 from editor.geo import LocalProjection  # noqa: E402
 from editor.model import PointTable, Track  # noqa: E402
 from editor.processing import kalman as K  # noqa: E402
 from editor.processing import smoothing as S  # noqa: E402
+from statsmodels_reference import statsmodels_model, transition, unit_q  # noqa: E402
 
 N = 100_000
 Q_H, Q_V, SIGMA_H, SIGMA_V = 0.05, 5e-4, 5.0, 10.0
@@ -68,34 +69,6 @@ def scenario(n: int, seed: int = 0):
     for s in rng.choice(np.arange(100, n - 100, 100), n // 5000, replace=False):
         z[s:s + 50] = np.nan
     return t, z
-
-
-def unit_q(h):
-    q = np.zeros((2, 2, len(h)))
-    q[0, 0], q[0, 1], q[1, 1] = h ** 3 / 3, h ** 2 / 2, h
-    q[1, 0] = q[0, 1]
-    return q
-
-
-def transition(h):
-    f = np.zeros((2, 2, len(h)))
-    f[0, 0] = f[1, 1] = 1.0
-    f[0, 1] = h
-    return f
-
-
-def statsmodels_model(t, z, r, q):
-    """statsmodels' state-space form of the same constant-velocity model for one axis."""
-    h = np.append(np.diff(t), 0.0)
-    ks = KalmanSmoother(k_endog=1, k_states=2, k_posdef=2)
-    ks.bind(z.reshape(1, -1).copy())
-    ks["design"] = np.array([[1.0, 0.0]])
-    ks["obs_cov"] = np.array([[r]])
-    ks["transition"] = transition(h)
-    ks["selection"] = np.eye(2)
-    ks["state_cov"] = q * unit_q(h)
-    ks.initialize_diffuse()
-    return ks
 
 
 def statsmodels_axis(t, z, r, q, want_cov):

@@ -15,42 +15,15 @@ import numpy as np
 import pytest
 from scipy.interpolate import make_smoothing_spline
 from scipy.optimize import minimize_scalar
-from statsmodels.tsa.statespace.kalman_smoother import KalmanSmoother
 from statsmodels.tsa.statespace.mlemodel import MLEModel
 
 from editor.processing import kalman as K
-
-
-def unit_q(h, q_form="continuous"):
-    q = np.zeros((2, 2, len(h)))
-    if q_form == "continuous":
-        q[0, 0], q[0, 1], q[1, 1] = h ** 3 / 3, h ** 2 / 2, h
-    else:
-        q[0, 0], q[0, 1], q[1, 1] = h ** 4 / 4, h ** 3 / 2, h ** 2
-    q[1, 0] = q[0, 1]
-    return q
-
-
-def transition(h):
-    f = np.zeros((2, 2, len(h)))
-    f[0, 0] = f[1, 1] = 1.0
-    f[0, 1] = h
-    return f
+from statsmodels_reference import statsmodels_model, transition, unit_q
 
 
 def statsmodels_smooth(t, z, r, q, q_form="continuous"):
     """statsmodels' smoother on the same model: exact diffuse start, one matrix per step."""
-    n = len(t)
-    h = np.append(np.diff(t), 0.0)
-    ks = KalmanSmoother(k_endog=1, k_states=2, k_posdef=2)
-    ks.bind(np.asarray(z, dtype=float).reshape(1, -1).copy())
-    ks["design"] = np.array([[1.0, 0.0]])
-    ks["obs_cov"] = np.broadcast_to(np.asarray(r, dtype=float), (n,)).reshape(1, 1, n).copy()
-    ks["transition"] = transition(h)
-    ks["selection"] = np.eye(2)
-    ks["state_cov"] = q * unit_q(h, q_form)
-    ks.initialize_diffuse()
-    return ks.smooth()
+    return statsmodels_model(t, z, r, q, q_form).smooth()
 
 
 def irregular_series(rng, n, q=0.2, sigma=2.0, start=0.0):
