@@ -1,7 +1,8 @@
-"""Where the project's shared reference files are: ``shared/`` beside the checkout (as CI lays it out)."""
+"""The reference files the tests check against, vendored in ``tests/reference/`` (sources in its README)."""
 from pathlib import Path
 
-ROOT = Path(__file__).resolve().parents[1]
-SHARED = next((p for p in (ROOT.parent / "shared", Path("/work/shared")) if p.is_dir()), ROOT.parent / "shared")
-#: The GPX 1.1 XML Schema published with the standard (shared/standards/gpx-1.1.xsd).
-GPX_XSD = SHARED / "standards" / "gpx-1.1.xsd"
+REFERENCE = Path(__file__).resolve().parent / "reference"
+#: The GPX 1.1 XML Schema published with the standard (TopoGrafix); see tests/reference/README.md.
+GPX_XSD = REFERENCE / "gpx-1.1.xsd"
+#: Worked examples and closed forms from published sources, each named inside.
+CHECK_VALUES = REFERENCE / "check-values.md"

@@ -9,7 +9,7 @@ import pytest
 import xmlschema
 
 from editor.cli import main
-from editor.cli_clean import ProgressBar
+from editor.cli.clean import ProgressBar
 from editor.io.gpx import read_gpx
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -24,8 +24,8 @@ DEMO = REPO / "demo_tracks"
 STEMS = ("demo_ride", "demo_hike", "demo_tunnel")
 OUTPUTS = sorted(f"{stem}{suffix}" for stem in STEMS for suffix in (".gpx", ".truth.json"))
 # The GPX 1.1 XML Schema published with the standard (TopoGrafix, namespace
-# http://www.topografix.com/GPX/1/1); size and sha256 as given in ../shared/check-values.md.
-SCHEMA_PATH = REPO.parent / "shared" / "standards" / "gpx-1.1.xsd"
+# http://www.topografix.com/GPX/1/1); size and sha256 as given in tests/reference/check-values.md.
+SCHEMA_PATH = REPO / "tests" / "reference" / "gpx-1.1.xsd"
 SCHEMA_SHA256 = "3bf901d17345920781ffa7b39759ca44a7f8c6ee2c7d884ca95c1bfb9a0cdc0a"
 GPX_NS = "http://www.topografix.com/GPX/1/1"
 PULSE_NS = "urn:x-trackwright-demo:pulse:1"

@@ -18,8 +18,8 @@ BLOCKED_IMPORT = textwrap.dedent("""
 
     sys.meta_path.insert(0, BlockQt())
     import editor
-    names = ["editor.cli", "editor.cli_clean", "editor.recovery", "editor.app_entry", "editor.__main__"]
-    for pkg in ("editor.model", "editor.io", "editor.geo", "editor.processing"):
+    names = ["editor.cli", "editor.recovery", "editor.app_entry", "editor.__main__"]
+    for pkg in ("editor.model", "editor.io", "editor.geo", "editor.processing", "editor.cli"):
         module = importlib.import_module(pkg)
         names += [m.name for m in pkgutil.walk_packages(module.__path__, pkg + ".")]
     imported = []
@@ -44,7 +44,7 @@ def test_core_imports_without_qt():
                             timeout=120)
     assert result.returncode == 0, result.stderr
     count, names = result.stdout.split(" ", 1)
-    for required in ("editor.cli", "editor.cli_clean", "editor.recovery", "editor.model.document", "editor.io.gpx",
+    for required in ("editor.cli", "editor.cli.clean", "editor.recovery", "editor.model.document", "editor.io.gpx",
                      "editor.geo.distance", "editor.processing.stats", "editor.processing.smoothing"):
         assert required in names.split()
 

@@ -24,7 +24,7 @@ import argparse
 import sys
 from pathlib import Path
 
-from .io.errors import TrackFileError
+from ..io.errors import TrackFileError
 
 #: Suffix added to an input's name for its cleaned copy in ``-d`` mode.
 OUTPUT_SUFFIX = "-cleaned"
@@ -105,11 +105,11 @@ def clean_params(args):
     """The :class:`CleanParams` the command line asks for."""
     # each tool's module directly, not the registry: that would import simplification (and shapely)
     # on every run, while it is off unless --simplify is given
-    from .processing.gaps import GapParams
-    from .processing.pipeline import CleanParams
-    from .processing.smoothing import SmoothParams
-    from .processing.spikes import SpikeParams
-    from .processing.stops import StopParams
+    from ..processing.gaps import GapParams
+    from ..processing.pipeline import CleanParams
+    from ..processing.smoothing import SmoothParams
+    from ..processing.spikes import SpikeParams
+    from ..processing.stops import StopParams
 
     vertical = args.simplify if args.simplify_vertical is None else args.simplify_vertical
     vertical = None if vertical == "off" else vertical
@@ -130,7 +130,7 @@ def clean_params(args):
 
 
 def _simplify_params(tolerance_m: float, vertical_tolerance_m: float | None):
-    from .processing.simplify import SimplifyParams
+    from ..processing.simplify import SimplifyParams
 
     return SimplifyParams(tolerance_m=tolerance_m, vertical_tolerance_m=vertical_tolerance_m)
 
@@ -190,9 +190,9 @@ class ProgressBar:
 
 
 def cmd_clean(args) -> int:
-    from .io.export import write_document
-    from .io.gpx import read_gpx
-    from .processing.pipeline import CAUTION, clean_document, summary_line
+    from ..io.export import write_document
+    from ..io.gpx import read_gpx
+    from ..processing.pipeline import CAUTION, clean_document, summary_line
 
     inputs = list(args.inputs)
     outputs = plan_outputs(inputs, args.output, args.output_dir, args.overwrite)

@@ -12,7 +12,7 @@ import math
 import sys
 from pathlib import Path
 
-from .io.errors import TrackFileError
+from ..io.errors import TrackFileError
 
 SUBCOMMANDS = ("stats", "export", "clean")
 
@@ -29,8 +29,8 @@ def _json_number(value):
 
 
 def cmd_stats(args) -> int:
-    from .io.gpx import read_gpx
-    from .processing.stats import StatsParams, document_totals, segment_totals
+    from ..io.gpx import read_gpx
+    from ..processing.stats import StatsParams, document_totals, segment_totals
 
     params = StatsParams(moving_speed_mps=args.moving_speed, climb_threshold_m=args.climb_threshold)
     doc = read_gpx(args.file)
@@ -63,12 +63,12 @@ def _same_file(a: Path, b: Path) -> bool:
 
 
 def cmd_export(args) -> int:
-    from .io.export import write_document
+    from ..io.export import write_document
 
     src, dst = Path(args.input), Path(args.output)
     if _same_file(src, dst):
         raise TrackFileError(dst, "refusing to overwrite the input file; choose another output name")
-    from .io.gpx import read_gpx
+    from ..io.gpx import read_gpx
 
     doc = read_gpx(src)
     write_document(doc, dst)
@@ -98,7 +98,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("-o", "--output", type=Path, required=True, help="output file: .gpx, .geojson or .csv")
     p.set_defaults(run=cmd_export)
 
-    from . import cli_clean  # the clean command lives in its own module
+    from . import clean as cli_clean  # the clean command lives in its own module
 
     cli_clean.add_parser(sub)
     return parser
@@ -107,7 +107,7 @@ def build_parser() -> argparse.ArgumentParser:
 def main(argv: list[str] | None = None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
     if not argv or (argv[0] not in SUBCOMMANDS and not argv[0].startswith("-")):
-        from .app_entry import open_editor
+        from ..app_entry import open_editor
 
         return open_editor(argv)
     parser = build_parser()

@@ -36,8 +36,8 @@ import numpy as np
 
 from ..model import Document, PointTable
 from .errors import TrackFileError
-from .gpx_format import time_texts
-from .gpx_write import gpx_bytes, gpx_chunks
+from .gpx.format import time_texts
+from .gpx.write import gpx_bytes, gpx_chunks
 from .save import atomic_write, same_file
 
 CSV_COLUMNS = ("track", "segment", "point", "lat", "lon", "ele", "time", "hdop", "vdop", "pdop", "sat")

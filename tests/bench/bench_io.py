@@ -29,7 +29,7 @@ from lxml import etree
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from editor.io import gpx_scan  # noqa: E402
+from editor.io.gpx import scan as gpx_scan  # noqa: E402
 from editor.io.gpx import gpx_bytes, read_gpx, write_gpx  # noqa: E402
 
 

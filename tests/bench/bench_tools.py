@@ -166,7 +166,7 @@ def bench_clean(track):
         src, dst = Path(folder) / "ride.gpx", Path(folder) / "ride-out.gpx"
         write_gpx(Document(tracks=[track]), src)
         print(f"trackwright clean, default steps, {len(track.points)} points ({src.stat().st_size / 1e6:.1f} MB)")
-        imports = "import editor.cli, editor.cli_clean, editor.io.gpx, editor.processing.pipeline"
+        imports = "import editor.cli, editor.cli.clean, editor.io.gpx, editor.processing.pipeline"
         for label, env in _environments(Path(folder)):
             subprocess.run([sys.executable, "-c", imports], cwd=ROOT, env=env, check=True)  # warm caches
             walls, starts = [], []

@@ -13,7 +13,7 @@ def dms(d, m, s):
 
 
 # Geoscience Australia / ICSM worked example (Vincenty inverse on GRS80), Flinders Peak -> Buninyong,
-# as quoted in shared/check-values.md: 54 972.271 m.
+# as quoted in tests/reference/check-values.md: 54 972.271 m.
 FLINDERS = (dms(-37, 57, 3.72030), dms(144, 25, 29.52440))
 BUNINYONG = (dms(-37, 39, 10.15610), dms(143, 55, 35.38390))
 
@@ -25,7 +25,7 @@ def test_vincenty_worked_example_grs80():
 
 
 def test_karney_2013_examples_wgs84():
-    # Karney (2013), "Algorithms for geodesics", J. Geodesy 87:43-55 (values in shared/check-values.md)
+    # Karney (2013), "Algorithms for geodesics", J. Geodesy 87:43-55 (values in tests/reference/check-values.md)
     g = Geod(ellps="WGS84")
     # nearly antipodal inverse
     assert geodesic_steps(np.array([-30.0, 29.9]), np.array([0.0, 179.8]))[0] == pytest.approx(19989832.827610, abs=1e-3)
@@ -65,7 +65,7 @@ def test_antimeridian_steps_are_short():
 
 def test_projection_reproduces_published_utm_coordinates():
     # Same Geoscience Australia source: Flinders Peak in UTM zone 55 south on GRS80,
-    # E 273 741.2966, N 5 796 489.7769 (shared/check-values.md).
+    # E 273 741.2966, N 5 796 489.7769 (tests/reference/check-values.md).
     utm55 = LocalProjection(0.0, 147.0)
     # our projection is tmerc with k0=1 and no false origin; apply UTM's k0/false origin via the same formula
     t = Transformer.from_crs("+proj=longlat +ellps=GRS80", "+proj=utm +zone=55 +south +ellps=GRS80", always_xy=True)

@@ -17,7 +17,7 @@ from gui_support import DEMO_RIDE, GPX_XSD, synthetic_ride
 @pytest.fixture(scope="module")
 def gpx_schema():
     # The GPX 1.1 XML Schema published with the standard (Topografix, 2004; 2011 text), from the
-    # shared standards folder: the outside judge of what we write.
+    # tests/reference/ (vendored): the outside judge of what we write.
     return xmlschema.XMLSchema(str(GPX_XSD))
 
 

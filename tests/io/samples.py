@@ -8,7 +8,7 @@ from lxml import etree
 
 GPX11 = "http://www.topografix.com/GPX/1/1"
 GPX10 = "http://www.topografix.com/GPX/1/0"
-#: The GPX 1.1 XML Schema published with the standard (see /work/shared/check-values.md).
+#: The GPX 1.1 XML Schema published with the standard (see tests/reference/check-values.md).
 from shared_files import GPX_XSD as SCHEMA_PATH  # noqa: E402
 
 # Every GPX 1.1 feature: namespaces (a heart-rate extension namespace, a power one, xsi),

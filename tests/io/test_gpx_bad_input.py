@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from lxml import etree
 
-from editor.io import gpx_parse
+from editor.io.gpx import parse as gpx_parse
 from editor.io.errors import TrackFileError
 from editor.io.gpx import read_gpx, read_gpx_bytes
 from tests.io.samples import LOGGER_11

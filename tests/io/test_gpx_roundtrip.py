@@ -1,6 +1,6 @@
 """Lossless GPX reading and GPX 1.1 writing, checked against the GPX 1.1 schema and lxml.
 
-Outside references: the GPX 1.1 XML Schema (/work/shared/standards/gpx-1.1.xsd, validated with
+Outside references: the GPX 1.1 XML Schema (tests/reference/gpx-1.1.xsd, validated with
 xmlschema), lxml's own parse of what we write, and Python's datetime for ISO 8601 instants.
 """
 import numpy as np
@@ -109,7 +109,7 @@ def test_misplaced_content_moves_into_extensions_with_warnings(read_path):
 
 
 def test_scan_and_tree_read_the_same(monkeypatch):
-    from editor.io import gpx_scan
+    from editor.io.gpx import scan as gpx_scan
 
     for text in (FULL_11, LOGGER_11):
         fast = read_gpx_bytes(text.encode())

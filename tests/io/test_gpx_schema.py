@@ -1,7 +1,7 @@
 """The schema check itself works: the GPX 1.1 schema rejects the documents check-values.md lists.
 
-Source: the GPX 1.1 XML Schema published with the standard (/work/shared/standards/gpx-1.1.xsd,
-sha256 3bf901d1...0cdc0a); the rejected cases are those named in /work/shared/check-values.md.
+Source: the GPX 1.1 XML Schema published with the standard (tests/reference/gpx-1.1.xsd,
+sha256 3bf901d1...0cdc0a); the rejected cases are those named in tests/reference/check-values.md.
 """
 import hashlib
 

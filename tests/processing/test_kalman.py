@@ -6,7 +6,7 @@ References used:
 * scipy.interpolate.make_smoothing_spline: the smoother of this model is the natural
   cubic smoothing spline (Wahba 1978; Wecker & Ansley 1983) with lam = 1/q, w = 1/r.
 * Kalata (1984), IEEE Trans. AES 20(2):174-182, steady-state alpha-beta gains
-  (values in /work/shared/check-values.md) and scipy.linalg.solve_discrete_are.
+  (values in tests/reference/check-values.md) and scipy.linalg.solve_discrete_are.
 * Simulation from the model itself with known q and noise.
 """
 from __future__ import annotations

@@ -74,7 +74,7 @@ def test_cleaned_hike_is_much_closer_to_the_truth():
 
 
 def test_output_validates_against_the_gpx_11_schema():
-    # The GPX 1.1 schema as published (shared/standards/gpx-1.1.xsd), loaded with xmlschema.
+    # The GPX 1.1 schema as published (tests/reference/gpx-1.1.xsd), loaded with xmlschema.
     track, _ = invented_hike(seed=22)
     cleaned, _ = clean_document(Document(tracks=[track]), CleanParams(simplify=SimplifyParams(tolerance_m=2.0)))
     data = gpx_bytes(cleaned)

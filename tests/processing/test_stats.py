@@ -28,7 +28,7 @@ def test_sine_hill_of_known_amplitude():
 
 
 def test_white_noise_raw_ascent_follows_closed_form_and_threshold_removes_it():
-    # shared/check-values.md: summing every rise of truth + N(0, sigma^2) noise adds (N-1) sigma / sqrt(pi).
+    # tests/reference/check-values.md: summing every rise of truth + N(0, sigma^2) noise adds (N-1) sigma / sqrt(pi).
     rng = np.random.default_rng(11)
     n, sigma, runs = 1001, 1.0, 800
     raw = np.array([climb(rng.normal(0, sigma, n), 0.0)[0] for _ in range(runs)])

@@ -7,13 +7,13 @@ Reading keeps everything the model does not interpret in opaque payloads (see
 :mod:`editor.io.payload`), so writing an unedited document gives back the same
 content: every element, attribute, namespace declaration and extension, with
 children in GPX 1.1 schema order. What is an error and what a warning is listed
-in :mod:`editor.io.gpx_values` (values), :mod:`editor.io.gpx_parse` (the file as
+in :mod:`editor.io.gpx.values` (values), :mod:`editor.io.gpx.parse` (the file as
 a whole: size, safety, broken XML with its ``partial`` document) and
-:mod:`editor.io.gpx_tree` (content GPX 1.1 has no place for). Warnings go to
+:mod:`editor.io.gpx.tree` (content GPX 1.1 has no place for). Warnings go to
 ``Document.warnings``, one line each.
 
-Reading takes the fast path of :mod:`editor.io.gpx_scan` for the usual file and
-reads through the tree (:mod:`editor.io.gpx_tree`) otherwise; both give the same
+Reading takes the fast path of :mod:`editor.io.gpx.scan` for the usual file and
+reads through the tree (:mod:`editor.io.gpx.tree`) otherwise; both give the same
 document. Memory: about 2.5 times the file's size while reading by the fast path.
 
 Cleaned tracks are estimates, not surveyed data, and are not for navigation;
@@ -23,13 +23,13 @@ from __future__ import annotations
 
 import os
 
-from ..model import Document
-from .errors import TrackFileError
-from . import gpx_scan
-from .gpx_parse import MAX_FILE_BYTES, parse_root, size_problem, validate
-from .gpx_tree import TreeReader
-from .gpx_write import gpx_bytes, gpx_chunks, gpx_text
-from .save import atomic_write, same_file
+from ...model import Document
+from ..errors import TrackFileError
+from . import scan as gpx_scan
+from .parse import MAX_FILE_BYTES, parse_root, size_problem, validate
+from .tree import TreeReader
+from .write import gpx_bytes, gpx_chunks, gpx_text
+from ..save import atomic_write, same_file
 
 __all__ = ["read_gpx", "read_gpx_bytes", "write_gpx", "gpx_bytes", "gpx_text", "MAX_FILE_BYTES"]
 
@@ -75,7 +75,7 @@ def _read(data: bytes, path: str | None) -> Document:
 
 
 def _read_scanned(data: bytes, path: str | None) -> Document | None:
-    """Read through :mod:`editor.io.gpx_scan`; ``None`` if the file needs the tree."""
+    """Read through :mod:`editor.io.gpx.scan`; ``None`` if the file needs the tree."""
     scan = gpx_scan.scan_points(data)
     if scan is None:
         return None

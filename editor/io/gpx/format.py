@@ -20,7 +20,7 @@ from typing import Iterator
 
 import numpy as np
 
-from .payload import PointExtra
+from ..payload import PointExtra
 
 _CHUNK = 50_000
 _EXACT_LIMIT = 2.0 ** 53

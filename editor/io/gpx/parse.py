@@ -24,9 +24,9 @@ import re
 
 from lxml import etree
 
-from .errors import TrackFileError
-from .gpx_tree import TreeReader
-from .gpx_xml import GPX10, GPX11, local_name
+from ..errors import TrackFileError
+from .tree import TreeReader
+from .xml_parts import GPX10, GPX11, local_name
 
 #: Largest file read, in bytes (1.5 GB). Reading needs a few times the file's size
 #: in memory (measured: 2.5x on the fast path; the tree reader needs more), so larger
@@ -181,7 +181,7 @@ def _writable(doc):
     The recovering parser keeps damaged pieces (an undeclared prefix, say) that
     would make a saved copy unreadable; the points themselves are plain values.
     """
-    from .gpx_write import gpx_bytes  # the writer is not needed to read intact files
+    from .write import gpx_bytes  # the writer is not needed to read intact files
 
     for attempt in range(2):
         try:

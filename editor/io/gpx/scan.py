@@ -28,7 +28,7 @@ The scan is used only when it provably sees what a full tree would hold:
 * the skeleton's segments hold all the placeholders.
 
 Otherwise, or when a value fails to convert, the whole file is read through
-the tree (:mod:`editor.io.gpx_tree`), which also names the line of any error.
+the tree (:mod:`editor.io.gpx.tree`), which also names the line of any error.
 A point's ``<extensions>`` payload is its inner text as the file spells it
 (line ends normalised to ``\\n`` as XML requires); plain-text opaque children
 (cmt, desc, sym, fix, ...) are rewritten the way the tree reader writes them.
@@ -38,10 +38,10 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass, field
 
-from ..model import PointTable
-from .gpx_values import PointTexts, ValueProblem, build_table
-from .gpx_xml import escape_text, unescape
-from .payload import point_extra
+from ...model import PointTable
+from .values import PointTexts, ValueProblem, build_table
+from .xml_parts import escape_text, unescape
+from ..payload import point_extra
 
 #: Stands for a cut-out point in the skeleton (a private-use character).
 PLACEHOLDER = "\ue000"

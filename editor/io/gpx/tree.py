@@ -1,7 +1,7 @@
 """Reading a parsed GPX 1.1 or 1.0 tree into a :class:`~editor.model.Document`.
 
 The tree gives the document's structure and everything opaque; point values
-come either from :mod:`editor.io.gpx_scan` (fast, for the usual file) or from
+come either from :mod:`editor.io.gpx.scan` (fast, for the usual file) or from
 the tree itself, element by element, which handles every file and names the
 line of a bad value.
 
@@ -25,14 +25,14 @@ from typing import Callable
 import numpy as np
 from lxml import etree
 
-from ..model import Document, PointTable, Route, Track
-from .errors import TrackFileError
-from .gpx_scan import PLACEHOLDER
-from .gpx_values import PointTexts, ValueProblem, build_table, time_order_warnings
-from .gpx_xml import (CONTAINER_SLOTS, GPX10, GPX11, GPX11_XSD, POINT_FIELDS, POINT_SLOTS, XSI,
+from ...model import Document, PointTable, Route, Track
+from ..errors import TrackFileError
+from .scan import PLACEHOLDER
+from .values import PointTexts, ValueProblem, build_table, time_order_warnings
+from .xml_parts import (CONTAINER_SLOTS, GPX10, GPX11, GPX11_XSD, POINT_FIELDS, POINT_SLOTS, XSI,
                       Fragments, local_name, qualified_attribute)
-from .gpx_v10 import V10_METADATA, metadata_from_v10, v10_link
-from .payload import DocumentExtra, ElementExtra, point_extra
+from .v10 import V10_METADATA, metadata_from_v10, v10_link
+from ..payload import DocumentExtra, ElementExtra, point_extra
 
 _FIELDS = frozenset(POINT_FIELDS)
 _POINT_ATTRIBUTES = frozenset(("lat", "lon"))
@@ -70,7 +70,7 @@ class TreeReader:
 
     def __init__(self, root, path: str | None, scan=None):
         self.root, self.path = root, path
-        #: a :class:`~editor.io.gpx_scan.Scan` when ``root`` is its skeleton: track points are
+        #: a :class:`~editor.io.gpx.scan.Scan` when ``root`` is its skeleton: track points are
         #: placeholder characters in the segments' text and their values come from the scan
         self.scan = scan
         self.ns = local_name(root)[0]

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from lxml import etree
 
-from .gpx_xml import GPX11
+from .xml_parts import GPX11
 
 #: Top-level GPX 1.0 elements that belong in GPX 1.1 ``<metadata>``.
 V10_METADATA = frozenset(("name", "desc", "author", "email", "url", "urlname", "time", "keywords", "bounds"))

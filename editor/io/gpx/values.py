@@ -21,7 +21,7 @@ from typing import Callable, Sequence
 
 import numpy as np
 
-from ..model import PointTable
+from ...model import PointTable
 
 _LABEL = {"lat": "latitude", "lon": "longitude", "ele": "elevation", "time": "time",
           "sat": "satellite count", "hdop": "hdop", "vdop": "vdop", "pdop": "pdop"}

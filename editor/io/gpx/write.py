@@ -3,7 +3,7 @@
 Everything the reader kept opaque is written back verbatim in its schema slot,
 so a file read and written without edits keeps every element, attribute and
 namespace declaration. Numbers are written exactly: the text reads back to the
-same float (see :mod:`editor.io.gpx_format`; positional, never exponent
+same float (see :mod:`editor.io.gpx.format`; positional, never exponent
 notation, as xsd:decimal requires), so read(write(doc)) equals doc. Times are
 ISO 8601 UTC with a ``Z``, with as many fraction digits as needed (none for
 whole seconds, up to nanoseconds). The file is UTF-8, indented by two spaces,
@@ -25,11 +25,11 @@ from typing import Iterator
 
 import numpy as np
 
-from ..model import Document, PointTable
-from .errors import TrackFileError
-from .gpx_format import format_points
-from .gpx_xml import GPX11, bad_xml_character, escape_attribute, escape_text
-from .payload import DocumentExtra, ElementExtra
+from ...model import Document, PointTable
+from ..errors import TrackFileError
+from .format import format_points
+from .xml_parts import GPX11, bad_xml_character, escape_attribute, escape_text
+from ..payload import DocumentExtra, ElementExtra
 
 _DEFAULT_CREATOR = "Trackwright"
 

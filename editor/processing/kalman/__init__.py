@@ -26,8 +26,8 @@ The log-likelihood is the Gaussian prediction-error (innovation) log-likelihood
 summed over observed measurements, in the exact diffuse form with the
 convention of statsmodels (``P_inf = I``).
 
-How it is computed: see :mod:`.kalman_contrast` (the smoother as one banded
-LAPACK solve in second divided differences) and :mod:`.kalman_covariance`
+How it is computed: see :mod:`.contrast` (the smoother as one banded
+LAPACK solve in second divided differences) and :mod:`.covariance`
 (filter gains and the two-filter smoothed covariance read off the same
 factorisation). Every step is O(n) with no per-point Python loop.
 """
@@ -38,10 +38,10 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.linalg import solve_discrete_are
 
-from . import kalman_covariance as kcov
-from .kalman_contrast import (LOG_2PI, check_q_form, diffuse_loglik, factor, log_det, solve,
+from . import covariance as kcov
+from .contrast import (LOG_2PI, check_q_form, diffuse_loglik, factor, log_det, solve,
                               smoothed_knots, unit_process_noise, whiten)
-from .kalman_rows import AxisClass, axis_classes, validate
+from .rows import AxisClass, axis_classes, validate
 
 __all__ = ["RtsResult", "rts_smooth", "loglik", "innovations", "filter_gains", "steady_state_gain",
            "Problem"]

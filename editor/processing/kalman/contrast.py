@@ -21,7 +21,7 @@ initial state. Two facts make it cheap:
   one column per knot) gives the smoothed positions
   ``p^ = z - diag(r) D M^-1 c``, the velocities, the exact diffuse log-likelihood
   (log-determinant plus quadratic form), and, read row by row, the Kalman
-  filter's innovation variances and gains (see :mod:`.kalman_covariance`).
+  filter's innovation variances and gains (see :mod:`.covariance`).
 
 The form stays well conditioned for short steps (``M`` is a sum of positive
 semi-definite terms, no ``Q^-1`` appears), and never subtracts large absolute

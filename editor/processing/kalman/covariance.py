@@ -1,7 +1,7 @@
 """Kalman filter covariances and posterior covariances, read off the contrast factorisation.
 
 The Cholesky factor ``M = U^T U`` of the contrast covariance (see
-:mod:`.kalman_contrast`) *is* the forward Kalman filter in disguise. With
+:mod:`.contrast`) *is* the forward Kalman filter in disguise. With
 ``nu`` the filter's innovations, ``s`` their variances and ``K = [Kp, Kv]`` its
 gains, the contrast centred at knot ``i`` is exactly the moving average
 
@@ -33,7 +33,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .kalman_contrast import Knots, shift_next, shift_prev, unit_process_noise
+from .contrast import Knots, shift_next, shift_prev, unit_process_noise
 
 
 def sym_inverse(a, b, d):

@@ -14,7 +14,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .kalman_contrast import LOG_2PI, ContrastSystem, Knots
+from .contrast import LOG_2PI, ContrastSystem, Knots
 
 
 def validate(t_s, z, r, q, starts):
