@@ -50,7 +50,7 @@ def main(argv: list[str]) -> int:
     window.tool_dock.show_panel(panel)
     panel.controls["horizontal_strength"].set_value(POSITION_STRENGTH)
     panel.controls["vertical_strength"].set_value(ELEVATION_STRENGTH)
-    window.request_preview(panel.info.function, panel.params(), False, immediately=True)
+    window.request_preview(panel.tool, panel.params(), False, immediately=True)
     deadline = time.monotonic() + 60
     while window.state.preview is None and time.monotonic() < deadline:
         app.processEvents(QtCore.QEventLoop.ProcessEventsFlag.AllEvents, 20)

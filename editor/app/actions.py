@@ -124,9 +124,9 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
         m.addAction(dock.toggleViewAction())
     m = bar.addMenu("&Tools")
     for i, panel in enumerate(w.tool_dock.panels):
-        act = _action(w, f"{panel.info.title}…", lambda _c=False, p=panel: _show_tool(w, p), f"Ctrl+{i + 1}")
+        act = _action(w, f"{panel.tool.title}…", lambda _c=False, p=panel: _show_tool(w, p), f"Ctrl+{i + 1}")
         m.addAction(act)
-        a[f"tool_{panel.info.function.__name__}"] = act
+        a[f"tool_{panel.tool.key}"] = act
     m.addSeparator()
     for name in ("estimate", "apply", "discard"):
         m.addAction(a[name])

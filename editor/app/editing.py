@@ -1,7 +1,6 @@
 """The window's editing side: hand edits as undo commands, tool previews, apply and discard."""
 from __future__ import annotations
 
-import inspect
 from typing import Any
 
 import numpy as np
@@ -12,6 +11,7 @@ from ..commands import hand_edits
 from ..geo.projection import LocalProjection
 from ..model.document import Track
 from ..processing.cleaning_base import planar
+from ..processing.descriptor import ToolDescriptor
 from ..processing.stats import track_totals
 from .workers import LongJob, PreviewRunner, snapshot_track
 
@@ -148,8 +148,9 @@ class EditOps:
             self._snapshot = (*key, snapshot_track(track))
         return self._snapshot[2]
 
-    def request_preview(self, function, params: Any, selection_only: bool, immediately: bool = False) -> None:
-        """Compute ``function(snapshot, params, rows=..., track_index=...)`` in the background."""
+    def request_preview(self, tool: ToolDescriptor, params: Any, selection_only: bool,
+                        immediately: bool = False) -> None:
+        """Compute ``tool.function(snapshot, params, rows=..., track_index=...)`` in the background."""
         snapshot = self.snapshot()
         if snapshot is None or not len(snapshot.points):
             self.tool_dock.set_status("The shown track has no points to work on (the file may hold only "
@@ -163,13 +164,14 @@ class EditOps:
         state_key = (self.revision, self.state.track)
         if self._preview_cache.get("state") != state_key:
             self._preview_cache = {"state": state_key}
-        strengths = self._cached_strengths(function, params, rows)
-
-        extra = self._tool_extras(function)
+        strengths = self._cached_strengths(params, rows)
+        # only the profile draws an uncertainty band; "before" and "plane" are filled in by the worker
+        kwargs_wanted = tool.optional_inputs(before=None, plane=None, want_std="vertical")
         cache = self._preview_cache
+        function = tool.function
 
         def work():
-            kwargs = dict(extra)
+            kwargs = dict(kwargs_wanted)
             if "before" in kwargs:  # the shown track's totals, once per track state
                 if cache.get("before") is None:
                     cache["before"] = track_totals(snapshot)
@@ -187,16 +189,7 @@ class EditOps:
 
         self.preview_runner.request(work, immediately=immediately)
 
-    @staticmethod
-    def _tool_extras(function) -> dict:
-        """Keyword arguments that save a tool work in previews, for the tools that take them."""
-        accepted = inspect.signature(function).parameters
-        extra = {name: None for name in ("before", "plane") if name in accepted}
-        if "want_std" in accepted:
-            extra["want_std"] = "vertical"  # only the profile draws an uncertainty band
-        return extra
-
-    def _cached_strengths(self, function, params: Any, rows):
+    def _cached_strengths(self, params: Any, rows):
         """For smoothing with an automatic strength: estimate it once per track state, not per preview.
 
         Moving one strength control re-runs the tool; the other axis' maximum-likelihood

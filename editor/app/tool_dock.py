@@ -5,67 +5,23 @@ import numpy as np
 from PySide6 import QtCore, QtWidgets
 
 from ..panels.smoothing_panel import SmoothingPanel
-from ..panels.specs import ORDER, TOOL_TEXTS, activity_spec
-from ..panels.tool_panel import ToolInfo, ToolPanel
+from ..panels.tool_panel import ToolPanel
+from ..processing.smoothing import estimate_strength
+from ..processing.tools import TOOLS
 
-
-#: Where each tool lives, for builds where the ``editor.processing.tools`` registry is absent.
-_TOOL_MODULES = (("smooth", "smoothing", "smooth", "SmoothParams", "Smooth track"),
-                 ("despike", "spikes", "despike", "SpikeParams", "Remove spikes"),
-                 ("fill_gaps", "gaps", "fill_gaps", "GapParams", "Fill gaps"),
-                 ("collapse_stops", "stops", "collapse_stops", "StopParams", "Collapse stops"),
-                 ("simplify", "simplify", "simplify", "SimplifyParams", "Simplify track"))
-
-
-def load_tools() -> tuple[dict, object]:
-    """``TOOLS`` and ``ACTIVITIES`` of :mod:`editor.processing.tools` (or of the tool modules found)."""
-    import importlib
-
-    try:
-        from ..processing import tools
-        return dict(tools.TOOLS), getattr(tools, "ACTIVITIES", None)
-    except ImportError:
-        pass
-    found = {}
-    for key, module_name, function_name, params_name, label in _TOOL_MODULES:
-        try:
-            module = importlib.import_module(f"editor.processing.{module_name}")
-        except ImportError:
-            continue
-        function, params = getattr(module, function_name, None), getattr(module, params_name, None)
-        if function is not None and params is not None:
-            found[key] = (function, params, label)
-    try:
-        from ..processing.activity import ACTIVITIES
-    except ImportError:
-        ACTIVITIES = None
-    return found, ACTIVITIES
-
-
-def tool_infos(tools: dict, activities) -> list[ToolInfo]:
-    """One :class:`ToolInfo` per registered tool, in our tab order."""
-    infos = []
-    for key, (function, params_class, label) in tools.items():
-        title, summary, specs = TOOL_TEXTS.get(function.__name__, (label, label, {}))
-        specs = dict(specs)
-        specs.setdefault("activity", activity_spec(activities))
-        infos.append(ToolInfo(key, title, summary, function, params_class, specs))
-    rank = {name: i for i, name in enumerate(ORDER)}
-    infos.sort(key=lambda info: rank.get(info.function.__name__, len(ORDER)))
-    return infos
+#: The panel class for each descriptor's ``panel`` kind.
+PANEL_KINDS: dict[str, type[ToolPanel]] = {"standard": ToolPanel, "strength": SmoothingPanel}
 
 
 class ToolDock(QtWidgets.QTabWidget):
     """One tab per tool; the shown tab owns the preview."""
 
-    def __init__(self, window, tools: dict | None = None, activities=None) -> None:
+    def __init__(self, window) -> None:
         super().__init__()
         self.window_ = window
-        if tools is None:
-            tools, activities = load_tools()
         self.panels: list[ToolPanel] = []
-        for info in tool_infos(tools, activities):
-            panel = SmoothingPanel(info) if info.function.__name__ == "smooth" else ToolPanel(info)
+        for tool in TOOLS.values():
+            panel = PANEL_KINDS[tool.panel](tool)
             panel.preview_requested.connect(lambda immediately, p=panel: self._preview(p, immediately))
             panel.apply_requested.connect(window.apply_preview)
             panel.discard_requested.connect(window.discard_preview)
@@ -76,21 +32,14 @@ class ToolDock(QtWidgets.QTabWidget):
             scroller.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
             scroller.setHorizontalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
             scroller.setWidget(panel)
-            self.addTab(scroller, info.title)
-            self.setTabToolTip(self.count() - 1, info.summary)
+            self.addTab(scroller, tool.title)
+            self.setTabToolTip(self.count() - 1, tool.summary)
             self.panels.append(panel)
-        if not self.panels:
-            note = QtWidgets.QLabel("The processing tools are not part of this build.")
-            note.setWordWrap(True)
-            self.addTab(note, "Tools")
         self.currentChanged.connect(lambda _i: window.discard_preview())
 
-    def panel(self, name: str) -> ToolPanel | None:
-        """The panel of the tool whose function is called ``name`` (``"smooth"``) or whose key is ``name``."""
-        for p in self.panels:
-            if name in (p.info.name, p.info.function.__name__):
-                return p
-        return None
+    def panel(self, key: str) -> ToolPanel | None:
+        """The panel of the tool registered as ``key`` (``"smooth"``)."""
+        return next((p for p in self.panels if p.tool.key == key), None)
 
     def current_panel(self) -> ToolPanel | None:
         i = self.currentIndex()
@@ -104,14 +53,9 @@ class ToolDock(QtWidgets.QTabWidget):
     def _preview(self, panel: ToolPanel, immediately: bool) -> None:
         if panel is not self.current_panel():
             return
-        self.window_.request_preview(panel.info.function, panel.params(), panel.selection_scope(), immediately)
+        self.window_.request_preview(panel.tool, panel.params(), panel.selection_scope(), immediately)
 
     def estimate(self, panel: SmoothingPanel) -> None:
-        try:
-            from ..processing.smoothing import estimate_strength
-        except ImportError:
-            panel.set_status("The strength estimate is not part of this build.")
-            return
         window = self.window_
         snapshot = window.snapshot()
         if snapshot is None:

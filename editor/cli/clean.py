@@ -25,75 +25,72 @@ import sys
 from pathlib import Path
 
 from ..io.errors import TrackFileError
+from ..io.save import same_file
+from ..processing.pipeline import CAUTION
 
 #: Suffix added to an input's name for its cleaned copy in ``-d`` mode.
 OUTPUT_SUFFIX = "-cleaned"
 #: Output formats, by extension (GPX 1.1, GeoJSON, CSV; see editor.io.export).
 OUTPUT_TYPES = (".gpx", ".geojson", ".json", ".csv")
-ACTIVITY_CHOICES = ("auto", "walk", "run", "ride", "drive")
 BAR_WIDTH = 24
 
 
-def _smooth_arg(text: str):
-    """``auto``, ``off`` or a strength 0..100 (returned as float)."""
-    value = text.strip().lower()
-    if value in ("auto", "off"):
-        return value
-    try:
-        strength = float(value)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected auto, off or a strength 0..100, got {text!r}") from None
-    if not 0.0 <= strength <= 100.0:
-        raise argparse.ArgumentTypeError(f"strength must be between 0 and 100, got {text!r}")
-    return strength
+def _argument_type(parse):
+    """An argparse ``type`` from a descriptor option's ``parse`` (its ValueError becomes the message)."""
+    def convert(text: str):
+        try:
+            return parse(text)
+        except ValueError as err:
+            raise argparse.ArgumentTypeError(str(err)) from None
+
+    convert.__name__ = getattr(parse, "__name__", "value")
+    return convert
 
 
-def _positive(text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a number, got {text!r}") from None
-    if not value > 0:
-        raise argparse.ArgumentTypeError(f"expected a positive number, got {text!r}")
-    return value
+def _option_dest(tool, option) -> str:
+    return f"tool_{tool.key}_{option.flag.lstrip('-').replace('-', '_')}"
 
 
-def _vertical_arg(text: str):
-    return "off" if text.strip().lower() == "off" else _positive(text)
+def add_tool_options(p: argparse.ArgumentParser) -> None:
+    """One switch and the options of every batch tool, from its descriptor; defaults come from the dataclasses."""
+    from ..processing.tools import batch_tools
+
+    for tool in batch_tools():
+        if tool.cli_switch:
+            state = "on" if tool.batch_default else "off"
+            p.add_argument(tool.flag, *tool.cli_aliases, dest=f"tool_{tool.key}", default=None,
+                           action=argparse.BooleanOptionalAction,
+                           help=f"{tool.label.lower()} (default {state})")
+        defaults = tool.params()
+        for option in tool.cli_options:
+            default = getattr(defaults, option.default_field) if option.default_field else None
+            text = option.help.format(default=default)
+            if option.parse is None:
+                p.add_argument(option.flag, dest=_option_dest(tool, option), action="store_const",
+                               const=dict(option.const or {}), default=None, help=text)
+            else:
+                p.add_argument(option.flag, dest=_option_dest(tool, option), type=_argument_type(option.parse),
+                               default=None, metavar=option.metavar, help=text)
 
 
 def add_parser(subparsers) -> argparse.ArgumentParser:
     """Register the ``clean`` subcommand."""
+    from ..processing.activity import ACTIVITIES, AUTO
+    from ..processing.tools import batch_tools
+
+    order = ", ".join(tool.label.lower() for tool in batch_tools())
     p = subparsers.add_parser(
-        "clean", help="clean track files: spikes, gaps, stops, smoothing (and simplification on request)",
-        description="Clean recorded tracks and write cleaned copies. Steps run in the order: remove spikes, "
-                    "fill gaps, collapse stops, smooth, simplify. Cleaned tracks are estimates, not surveyed "
-                    "data, and are not for navigation.")
+        "clean", help="clean track files: " + order,
+        description=f"Clean recorded tracks and write cleaned copies. Steps run in the order: {order} "
+                    f"(each on request or by default, see below). {CAUTION}")
     p.add_argument("inputs", nargs="+", type=Path, metavar="FILE", help="GPX files to clean")
     where = p.add_mutually_exclusive_group(required=True)
     where.add_argument("-o", "--output", type=Path, metavar="OUT",
                        help="output file for a single input (.gpx, .geojson or .csv)")
     where.add_argument("-d", "--output-dir", type=Path, metavar="DIR",
                        help=f"folder for the cleaned copies, named NAME{OUTPUT_SUFFIX}.gpx")
-    p.add_argument("--smooth", type=_smooth_arg, default="auto", metavar="auto|off|STRENGTH",
-                   help="smoothing: auto (maximum likelihood, default), off, or a strength 0..100")
-    p.add_argument("--despike", action=argparse.BooleanOptionalAction, default=True,
-                   help="remove spikes and the catch-up after signal loss (default on)")
-    p.add_argument("--fill-gaps", action=argparse.BooleanOptionalAction, default=True,
-                   help="fill signal-loss gaps with estimated points (default on)")
-    p.add_argument("--max-gap", type=_positive, default=120.0, metavar="SECONDS",
-                   help="longest gap to fill, seconds, as recorded: the catch-up removed after a gap "
-                        "does not count (default 120)")
-    p.add_argument("--split-long-gaps", action="store_true",
-                   help="start a new segment at gaps longer than --max-gap instead of leaving them")
-    p.add_argument("--stops", action=argparse.BooleanOptionalAction, default=True,
-                   help="collapse stationary periods to one position (default on)")
-    p.add_argument("--simplify", type=_positive, default=None, metavar="METRES",
-                   help="thin the cleaned track to this horizontal tolerance in metres (default off)")
-    p.add_argument("--simplify-vertical", type=_vertical_arg, default=None, metavar="METRES|off",
-                   help="vertical tolerance of --simplify, so climbs survive (default: the same "
-                        "number of metres as --simplify; off: horizontal only)")
-    p.add_argument("--activity", choices=ACTIVITY_CHOICES, default="auto",
+    add_tool_options(p)
+    p.add_argument("--activity", choices=(AUTO, *ACTIVITIES), default=AUTO,
                    help="limits for spikes and stops (default auto: inferred from each track's speeds)")
     p.add_argument("--overwrite", action="store_true", help="replace output files that already exist "
                                                             "(an input is never replaced)")
@@ -101,45 +98,30 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     return p
 
 
-def clean_params(args):
+def clean_params(args: argparse.Namespace):
     """The :class:`CleanParams` the command line asks for."""
-    # each tool's module directly, not the registry: that would import simplification (and shapely)
-    # on every run, while it is off unless --simplify is given
-    from ..processing.gaps import GapParams
+    from dataclasses import replace
+
+    from ..processing.descriptor import OFF
     from ..processing.pipeline import CleanParams
-    from ..processing.smoothing import SmoothParams
-    from ..processing.spikes import SpikeParams
-    from ..processing.stops import StopParams
+    from ..processing.tools import batch_tools
 
-    vertical = args.simplify if args.simplify_vertical is None else args.simplify_vertical
-    vertical = None if vertical == "off" else vertical
-    if args.smooth == "off":
-        smooth = None
-    elif args.smooth == "auto":
-        smooth = SmoothParams()
-    else:
-        smooth = SmoothParams(horizontal_strength=args.smooth, vertical_strength=args.smooth)
-    return CleanParams(
-        activity=args.activity,
-        despike=SpikeParams() if args.despike else None,
-        fill_gaps=GapParams(max_gap_s=args.max_gap, long_gap="split" if args.split_long_gaps else "leave")
-        if args.fill_gaps else None,
-        collapse_stops=StopParams() if args.stops else None,
-        smooth=smooth,
-        simplify=_simplify_params(args.simplify, vertical) if args.simplify else None)
-
-
-def _simplify_params(tolerance_m: float, vertical_tolerance_m: float | None):
-    from ..processing.simplify import SimplifyParams
-
-    return SimplifyParams(tolerance_m=tolerance_m, vertical_tolerance_m=vertical_tolerance_m)
-
-
-def _same_file(a: Path, b: Path) -> bool:
-    try:
-        return a.resolve() == b.resolve() or (a.exists() and b.exists() and a.samefile(b))
-    except OSError:
-        return False
+    steps = {}
+    for tool in batch_tools():
+        switch = getattr(args, f"tool_{tool.key}", None) if tool.cli_switch else None
+        on = tool.batch_default if switch is None else switch
+        changes: dict = {}
+        for option in tool.cli_options:
+            value = getattr(args, _option_dest(tool, option), None)
+            if value is None:
+                continue
+            if value is OFF:
+                on = False
+                continue
+            changes.update(value)
+            on = on or option.turns_on
+        steps[tool.key] = replace(tool.params(), **changes) if on else None
+    return CleanParams(activity=args.activity, **steps)
 
 
 def plan_outputs(inputs: list[Path], output: Path | None, output_dir: Path | None, overwrite: bool) -> list[Path]:
@@ -160,7 +142,7 @@ def plan_outputs(inputs: list[Path], output: Path | None, output_dir: Path | Non
             raise TrackFileError(dst, f"unknown output type {dst.suffix or '(no extension)'!r}; "
                                       "use .gpx, .geojson or .csv")
         for src in inputs:
-            if _same_file(src, dst):
+            if same_file(src, dst):
                 raise TrackFileError(dst, "refusing to overwrite an input file; choose another output name")
         if dst.exists() and not overwrite:
             raise TrackFileError(dst, "already exists; pass --overwrite to replace it")
@@ -192,7 +174,7 @@ class ProgressBar:
 def cmd_clean(args) -> int:
     from ..io.export import write_document
     from ..io.gpx import read_gpx
-    from ..processing.pipeline import CAUTION, clean_document, summary_line
+    from ..processing.pipeline import clean_document, summary_line
 
     inputs = list(args.inputs)
     outputs = plan_outputs(inputs, args.output, args.output_dir, args.overwrite)

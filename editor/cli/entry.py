@@ -55,18 +55,12 @@ def cmd_stats(args) -> int:
     return 0
 
 
-def _same_file(a: Path, b: Path) -> bool:
-    try:
-        return a.resolve() == b.resolve() or (b.exists() and a.samefile(b))
-    except OSError:
-        return False
-
-
 def cmd_export(args) -> int:
     from ..io.export import write_document
+    from ..io.save import same_file
 
     src, dst = Path(args.input), Path(args.output)
-    if _same_file(src, dst):
+    if same_file(src, dst):
         raise TrackFileError(dst, "refusing to overwrite the input file; choose another output name")
     from ..io.gpx import read_gpx
 

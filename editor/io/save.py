@@ -166,9 +166,12 @@ def _remove_quietly(path: Path | None) -> None:
 
 
 def same_file(a, b) -> bool:
-    """Are ``a`` and ``b`` the same existing file? (``b`` may be ``None``.)"""
+    """Do ``a`` and ``b`` name one file: the same path once resolved, or one existing file under two
+    names (a link)? Either may be ``None`` (never the same). The one check used before any write."""
+    if a is None or b is None:
+        return False
     try:
-        return b is not None and os.path.samefile(a, b)
+        return Path(a).resolve() == Path(b).resolve() or os.path.samefile(a, b)
     except OSError:
         return False
 

@@ -10,28 +10,13 @@ from __future__ import annotations
 
 import dataclasses
 import re
-from dataclasses import dataclass
 from typing import Any
 
 from PySide6 import QtCore, QtWidgets
 
+from ..processing.descriptor import ControlSpec
+
 UNIT_SUFFIXES = (("_m2", "m²"), ("_mps", "m/s"), ("_m", "m"), ("_s", "s"), ("_deg", "°"), ("_pct", "%"))
-
-
-@dataclass(frozen=True)
-class ControlSpec:
-    """How to show one parameter field. ``None`` members fall back to the field's own data."""
-
-    label: str | None = None
-    minimum: float | None = None
-    maximum: float | None = None
-    step: float | None = None
-    decimals: int | None = None
-    suffix: str | None = None
-    choices: tuple | None = None
-    auto_text: str = "auto"
-    slider: bool = False
-    hidden: bool = False
 
 
 def field_docs(cls: type) -> dict[str, str]:

@@ -5,7 +5,8 @@ import math
 
 from PySide6 import QtCore, QtWidgets
 
-from .tool_panel import ToolInfo, ToolPanel
+from ..processing.descriptor import ToolDescriptor
+from .tool_panel import ToolPanel
 
 
 class SmoothingPanel(ToolPanel):
@@ -18,8 +19,8 @@ class SmoothingPanel(ToolPanel):
 
     estimate_requested = QtCore.Signal()
 
-    def __init__(self, info: ToolInfo, parent=None) -> None:
-        super().__init__(info, parent)
+    def __init__(self, tool: ToolDescriptor, parent=None) -> None:
+        super().__init__(tool, parent)
         self.estimate_button = QtWidgets.QPushButton("Esti&mate strengths from the track")
         self.estimate_button.setToolTip("Find the strengths under which the recording is most likely "
                                         "(maximum likelihood); runs in the background and can be cancelled.")

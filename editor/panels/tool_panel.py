@@ -6,34 +6,14 @@ preview, apply or discard. Any control change asks for a preview.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field, replace
-from typing import Any, Callable
+from dataclasses import replace
+from typing import Any
 
 from PySide6 import QtCore, QtWidgets
 
-from .controls import ControlSpec, ParamControl, build_controls
-
-
-@dataclass(frozen=True)
-class ToolInfo:
-    """What a panel needs to know about a tool.
-
-    Attributes
-    ----------
-    name : the tool's key in ``editor.processing.tools.TOOLS``.
-    title : the tab's text.
-    summary : one or two sentences on what the tool does, shown above the controls.
-    function : ``f(track, params, *, rows=None, track_index=0) -> Proposal``.
-    params_class : the tool's parameter dataclass.
-    specs : per-field display hints.
-    """
-
-    name: str
-    title: str
-    summary: str
-    function: Callable[..., Any]
-    params_class: type
-    specs: dict[str, ControlSpec] = field(default_factory=dict)
+from ..processing.descriptor import ToolDescriptor
+from .controls import ParamControl, build_controls
+from .specs import panel_specs
 
 
 class ToolPanel(QtWidgets.QWidget):
@@ -50,13 +30,13 @@ class ToolPanel(QtWidgets.QWidget):
     apply_requested = QtCore.Signal()
     discard_requested = QtCore.Signal()
 
-    def __init__(self, info: ToolInfo, parent=None) -> None:
+    def __init__(self, tool: ToolDescriptor, parent=None) -> None:
         super().__init__(parent)
         self.setObjectName("panelBody")
-        self.info = info
+        self.tool = tool
         outer = QtWidgets.QVBoxLayout(self)
         outer.setContentsMargins(8, 8, 8, 8)
-        summary = QtWidgets.QLabel(info.summary)
+        summary = QtWidgets.QLabel(tool.summary)
         summary.setWordWrap(True)
         summary.setObjectName("caution")
         outer.addWidget(summary)
@@ -64,7 +44,7 @@ class ToolPanel(QtWidgets.QWidget):
         self.form = QtWidgets.QFormLayout(box)
         self.form.setFieldGrowthPolicy(QtWidgets.QFormLayout.FieldGrowthPolicy.AllNonFixedFieldsGrow)
         self.controls: dict[str, ParamControl] = {}
-        for control in build_controls(info.params_class, info.specs):
+        for control in build_controls(tool.params, panel_specs(tool)):
             self.controls[control.name] = control
             label = QtWidgets.QLabel(control.label_text + ":")
             label.setBuddy(control.editor)
@@ -104,13 +84,7 @@ class ToolPanel(QtWidgets.QWidget):
     def params(self) -> Any:
         """The tool's parameters as the controls show them (other fields at their defaults)."""
         values = {name: control.value() for name, control in self.controls.items()}
-        return replace(self.info.params_class(), **values)
-
-    def set_params(self, params: Any, emit: bool = False) -> None:
-        for name, control in self.controls.items():
-            control.set_value(getattr(params, name))
-        if emit:
-            self.preview_requested.emit(False)
+        return replace(self.tool.params(), **values)
 
     def set_selection_available(self, available: bool) -> None:
         self.selection_only.setEnabled(available)

@@ -176,9 +176,9 @@ def fill_gaps(track: Track, params: GapParams = GapParams(), *, rows=None, track
     reasons = {"inserted": inserted, "gap": all_gaps, "split": np.array(sorted(split_rows), dtype=np.int64),
                "unfilled": np.array(sorted(unfilled), dtype=np.int64)}
     if not len(inserted) and not split_rows:
-        return unchanged_proposal("gaps", "Fill gaps", track_index, track, stats_params, before, reasons=reasons,
+        return unchanged_proposal("fill_gaps", "Fill gaps", track_index, track, stats_params, before, reasons=reasons,
                                   sigma_h_m=sigma_h, sigma_v_m=sigma_v, info=info)
-    return make_proposal("gaps", "Fill gaps", track_index, track, points, starts, source, stats_params,
+    return make_proposal("fill_gaps", "Fill gaps", track_index, track, points, starts, source, stats_params,
                          before=before, segment_extra=segment_extra, reasons=reasons, sigma_h_m=sigma_h,
                          sigma_v_m=sigma_v, info=info)
 

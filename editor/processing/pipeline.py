@@ -25,6 +25,8 @@ Order of the steps, and why
    and on raw data it would keep the noise (the farthest points from a chord are
    the wildest).
 
+The order is each tool's ``batch_order`` (:mod:`editor.processing.builtin_tools`); a
+step's ``batch_adjust`` sees the earlier steps' results (the gap filler's widening above).
 Steps that need timestamps (spikes, gaps, stops) leave untimed segments alone.
 Cleaned tracks are estimates, not surveyed data, and are not for navigation.
 
@@ -39,47 +41,54 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field, replace
-from typing import TYPE_CHECKING, Callable
+from typing import Any, Callable, Mapping
 
 import numpy as np
 
 from ..model.document import Document, Route, Track
 from .activity import Activity
 from .cleaning_base import activity_for, planar, replan
-from .gaps import GapParams, fill_gaps
-from .smoothing import SmoothParams, smooth
-from .spikes import SpikeParams, despike
+from .descriptor import ToolDescriptor
 from .stats import StatsParams, Totals, track_totals
-from .stops import StopParams, collapse_stops
-
-if TYPE_CHECKING:  # simplify (and shapely) is imported only when the step is asked for
-    from .simplify import SimplifyParams
+from .tools import TOOLS, batch_tools
 
 CAUTION = "Cleaned tracks are estimates, not surveyed data, and are not for navigation."
 
 
-@dataclass(frozen=True)
 class CleanParams:
-    """What :func:`clean_document` does; a step set to ``None`` is skipped.
+    """What :func:`clean_document` does: each batch tool's parameters by key; a step set to ``None`` is skipped.
+
+    ``CleanParams(activity="walk", smooth=SmoothParams(...), collapse_stops=None)``: a tool not named
+    runs with its parameter dataclass's defaults when its descriptor's ``batch_default`` is on
+    (despike, fill_gaps, collapse_stops and smooth; gaps up to ``GapParams.max_gap_s`` are filled,
+    smoothing picks its strength by maximum likelihood), and is skipped otherwise (simplify).
 
     Attributes
     ----------
     activity : ``"auto"`` (default: inferred per track from its own speeds) or a preset name;
-        given to every step that has an ``activity``.
-    despike, fill_gaps, collapse_stops : on by default with their documented defaults (gaps
-        up to :attr:`GapParams.max_gap_s` = 120 s are filled).
-    smooth : on by default with automatic (maximum-likelihood) strength.
-    simplify : off by default.
+        given to every step whose parameters have an ``activity`` of ``"auto"``.
     stats_params : thresholds of the reported totals.
+    steps : the parameters of every batch tool, by key (``None``: skipped).
     """
 
-    activity: str = "auto"
-    despike: SpikeParams | None = field(default_factory=SpikeParams)
-    fill_gaps: GapParams | None = field(default_factory=GapParams)
-    collapse_stops: StopParams | None = field(default_factory=StopParams)
-    smooth: SmoothParams | None = field(default_factory=SmoothParams)
-    simplify: "SimplifyParams | None" = None
-    stats_params: StatsParams = field(default_factory=StatsParams)
+    def __init__(self, activity: str = "auto", stats_params: StatsParams | None = None, **steps: Any) -> None:
+        known = {d.key: d for d in batch_tools()}
+        unknown = sorted(set(steps) - set(known))
+        if unknown:
+            raise TypeError(f"no batch tool called {', '.join(unknown)} (known: {', '.join(known)})")
+        self.activity = activity
+        self.stats_params = stats_params if stats_params is not None else StatsParams()
+        self.steps: dict[str, Any] = {
+            key: steps[key] if key in steps else (d.params() if d.batch_default else None) for key, d in known.items()}
+
+    def __getattr__(self, key: str) -> Any:
+        steps = self.__dict__.get("steps")
+        if steps is not None and key in steps:
+            return steps[key]
+        raise AttributeError(key)
+
+    def __repr__(self) -> str:
+        return f"CleanParams(activity={self.activity!r}, {', '.join(f'{k}={v!r}' for k, v in self.steps.items())})"
 
 
 @dataclass(frozen=True)
@@ -117,27 +126,16 @@ def copy_document(doc: Document) -> Document:
                     source_path=None, warnings=list(doc.warnings))
 
 
-def _steps(params: CleanParams, activity: Activity):
-    """``(function, params)`` in the documented order, the activity filled in."""
-    def with_activity(p):
+def _steps(params: CleanParams, activity: Activity) -> list[tuple[ToolDescriptor, Any]]:
+    """``(descriptor, params)`` in the documented order, the activity filled in."""
+    def with_activity(p: Any) -> Any:
         # a step whose own activity is "auto" gets the track's; an explicit one is kept
         return replace(p, activity=activity) if getattr(p, "activity", None) == "auto" else p
 
-    chosen = [(despike, params.despike), (fill_gaps, params.fill_gaps), (collapse_stops, params.collapse_stops),
-              (smooth, params.smooth)]
-    if params.simplify is not None:
-        from .simplify import simplify
-
-        chosen.append((simplify, params.simplify))
-    return [(fn, with_activity(p)) for fn, p in chosen if p is not None]
+    return [(TOOLS[key], with_activity(p)) for key, p in params.steps.items() if p is not None]
 
 
-#: Extra arguments of the steps that take them: the shared plane, known totals, no unused std.
-_TAKES_PLANE = {despike, fill_gaps, collapse_stops, smooth}
-_EXTRA = {smooth: {"want_std": False}}
-
-
-def _scalars(info: dict) -> dict:
+def _scalars(info: Mapping[str, Any]) -> dict:
     return {k: v for k, v in info.items()
             if isinstance(v, (bool, int, float, str, np.integer, np.floating)) and not isinstance(v, np.ndarray)}
 
@@ -162,26 +160,28 @@ def clean_document(doc: Document, params: CleanParams = CleanParams(),
     done = 0
     for index, steps in enumerate(plans):
         plane, before = planes[index], None
-        for number, (fn, step_params) in enumerate(steps):
+        earlier: dict[str, Any] = {}  # scalar results of this track's earlier steps, for ``batch_adjust``
+        for number, (tool, step_params) in enumerate(steps):
             if progress is not None:
-                progress(done / total, f"track {index + 1}: {fn.__name__.replace('_', ' ')}")
+                progress(done / total, f"track {index + 1}: {tool.label.lower()}")
+            if tool.batch_adjust is not None:
+                step_params = tool.batch_adjust(step_params, earlier)
             track = out.tracks[index]
-            extra = dict(_EXTRA.get(fn, {}))
-            if fn in _TAKES_PLANE:
-                extra.update(plane=plane, before=before)
-            proposal = fn(track, step_params, track_index=index, stats_params=params.stats_params, **extra)
+            # the shared plane and the known totals; no posterior standard deviations (the batch keeps none)
+            optional = tool.optional_inputs(plane=plane, before=before, want_std=False)
+            proposal = tool.function(track, step_params, track_index=index, stats_params=params.stats_params,
+                                     **optional)
             if not proposal.is_noop():
                 proposal.edit().apply(out)
                 if number + 1 < len(steps):
                     plane = replan(plane, out.tracks[index], proposal.source_rows, proposal.changed)
             before = proposal.after
-            if fn is despike and proposal.info.get("catch_up_extra_s", 0.0) > 0:
-                steps[number + 1:] = [(f, replace(p, max_gap_s=p.max_gap_s + proposal.info["catch_up_extra_s"]))
-                                      if f is fill_gaps else (f, p) for f, p in steps[number + 1:]]
+            info = _scalars(proposal.info)
+            earlier.update(info)
             report.steps.append(StepReport(
                 tool=proposal.tool, label=proposal.label, track=index, removed=len(proposal.removed),
                 inserted=len(proposal.inserted), changed=int(proposal.changed.sum()), before=proposal.before,
-                after=proposal.after, info=_scalars(proposal.info)))
+                after=proposal.after, info=info))
             done += 1
     # every step's proposal already carries the totals before and after it: reuse them per track
     for index, track in enumerate(out.tracks):

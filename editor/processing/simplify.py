@@ -41,7 +41,6 @@ import heapq
 from dataclasses import dataclass
 
 import numpy as np
-import shapely
 
 from ..model.document import Track
 from .cleaning_base import keep_proposal, planar, selection_mask
@@ -193,6 +192,8 @@ def rdp_keep_geos(x: np.ndarray, y: np.ndarray, tolerance_m: float, anchors: np.
     number; GEOS measures in the plane and keeps original vertices, Z included, so the
     kept rows come back exactly, duplicate coordinates or not.
     """
+    import shapely  # here, not at the top: the batch command must not pay for it when it does not simplify
+
     n = len(x)
     keep = _always_kept(n, anchors)
     anchor_rows = np.flatnonzero(keep)

@@ -1,44 +1,45 @@
-"""The one place the editor (and the batch command) imports the cleaning tools from.
+"""The registry of cleaning tools: the one place the editor, the batch pipeline and ``clean`` find them.
 
 Every tool has the same shape::
 
-    tool(track, params=Params(), *, rows=None, track_index=0, stats_params=StatsParams()) -> Proposal
+    tool(track, params=Params(), *, rows=None, track_index=0, stats_params=StatsParams(), **optional) -> Proposal
 
 ``rows`` is the user's selection (sorted row indices; only those rows may
-change, the whole track is context). :data:`TOOLS` maps each tool's name to
-``(function, parameter class, human label)``; the label is also the undo
-step's name.
+change, the whole track is context); ``optional`` are the inputs its
+descriptor ``accepts``. :data:`TOOLS` maps each tool's key to its
+:class:`~editor.processing.descriptor.ToolDescriptor`. A tool module that
+fails to import fails here, loudly: there is no fallback list.
 
 Cleaned tracks are estimates, not surveyed data, and are not for navigation.
 """
 from __future__ import annotations
 
-from typing import Callable, NamedTuple
+from .builtin_tools import BUILTIN
+from .descriptor import ToolDescriptor
 
-from .activity import ACTIVITIES, AUTO, Activity, resolve_activity
-from .gaps import GapParams, fill_gaps
-from .simplify import SimplifyParams, simplify
-from .smoothing import SmoothParams, estimate_strength, smooth
-from .spikes import SpikeParams, despike
-from .stops import StopParams, collapse_stops
+#: Every registered tool by key, in the editor's tab order.
+TOOLS: dict[str, ToolDescriptor] = {}
 
 
-class ToolEntry(NamedTuple):
-    """A registered tool: the function, its parameter dataclass and its label."""
+def register(descriptor: ToolDescriptor) -> ToolDescriptor:
+    """Add a tool; its key must be new. Returns the descriptor."""
+    if descriptor.key in TOOLS:
+        raise ValueError(f"a tool with the key {descriptor.key!r} is already registered")
+    TOOLS[descriptor.key] = descriptor
+    return descriptor
 
-    function: Callable
-    params: type
-    label: str
+
+def unregister(key: str) -> None:
+    """Remove a tool (tests that register one of their own)."""
+    del TOOLS[key]
 
 
-TOOLS: dict[str, ToolEntry] = {
-    "smooth": ToolEntry(smooth, SmoothParams, "Smooth track"),
-    "despike": ToolEntry(despike, SpikeParams, "Remove spikes"),
-    "gaps": ToolEntry(fill_gaps, GapParams, "Fill gaps"),
-    "stops": ToolEntry(collapse_stops, StopParams, "Collapse stops"),
-    "simplify": ToolEntry(simplify, SimplifyParams, "Simplify track"),
-}
+def batch_tools() -> list[ToolDescriptor]:
+    """The tools of the full clean, in the order they run."""
+    return sorted((d for d in TOOLS.values() if d.batch_order is not None), key=lambda d: d.batch_order or 0)
 
-__all__ = ["TOOLS", "ToolEntry", "ACTIVITIES", "AUTO", "Activity", "resolve_activity",
-           "smooth", "estimate_strength", "SmoothParams", "despike", "SpikeParams",
-           "fill_gaps", "GapParams", "collapse_stops", "StopParams", "simplify", "SimplifyParams"]
+
+for _descriptor in BUILTIN:
+    register(_descriptor)
+
+__all__ = ["TOOLS", "ToolDescriptor", "register", "unregister", "batch_tools"]

@@ -166,7 +166,7 @@ def preview_latency(app, window: MainWindow, strength: float, repeats: int = 3) 
         steps.clear()
         t0 = time.perf_counter()
         window.request_preview = timed(steps, window.request_preview)
-        window.request_preview(panel.info.function, panel.params(), False, immediately=True)
+        window.request_preview(panel.tool, panel.params(), False, immediately=True)
         del window.request_preview
         wait_for_signal(window.state.preview_changed,
                         lambda: window.state.preview is not None and window.state.preview is not previous)

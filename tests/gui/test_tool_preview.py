@@ -97,10 +97,10 @@ def test_stale_results_are_dropped(demo, qtbot):
     window = demo
     panel = window.tool_dock.panel("smooth")
     window.tool_dock.show_panel(panel)
-    function = panel.info.function
-    params_class = panel.info.params_class
+    function = panel.tool.function
+    params_class = panel.tool.params
     for strength in (10, 40, 90):
-        window.request_preview(function, params_class(horizontal_strength=strength, vertical_strength=strength),
+        window.request_preview(panel.tool, params_class(horizontal_strength=strength, vertical_strength=strength),
                                False, immediately=True)
     proposal = _wait_preview(qtbot, window)
     assert window.pool.wait(30)

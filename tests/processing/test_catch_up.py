@@ -174,7 +174,7 @@ def test_demo_tunnel_clean_is_much_closer_to_the_truth():
     # the gap is refilled although removing the catch-up made it longer than the 120 s limit as recorded
     assert truth["gaps"][0]["duration_s"] < 120 < truth["gaps"][0]["duration_s"] + steps["despike"].info[
         "catch_up_extra_s"]
-    assert steps["gaps"].inserted > 100 and steps["gaps"].info["filled"] == 1
+    assert steps["fill_gaps"].inserted > 100 and steps["fill_gaps"].info["filled"] == 1
     true_ascent, true_distance = truth["true_ascent_m"], truth["true_distance_m"]
     # measured: raw 214 m -> 101 m against a true 105.4 m; 13.93 km -> 13.01 km against 12.99 km
     assert abs(done.ascent_m - true_ascent) < 0.2 * abs(raw.ascent_m - true_ascent)

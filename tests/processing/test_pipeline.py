@@ -13,8 +13,12 @@ from editor.model import Document, PointTable
 from editor.processing.cleaning_base import planar, replan
 from editor.processing.pipeline import CleanParams, clean_document, copy_document, summary_line
 from editor.processing.stats import climb
-from editor.processing.tools import (TOOLS, GapParams, SimplifyParams, SmoothParams, SpikeParams, StopParams,
-                                     collapse_stops, despike, fill_gaps, smooth)
+from editor.processing.gaps import GapParams, fill_gaps
+from editor.processing.simplify import SimplifyParams
+from editor.processing.smoothing import SmoothParams, smooth
+from editor.processing.spikes import SpikeParams, despike
+from editor.processing.stops import StopParams, collapse_stops
+from editor.processing.tools import TOOLS
 
 from shared_files import GPX_XSD as SCHEMA  # noqa: E402
 
@@ -62,11 +66,11 @@ def test_cleaned_hike_is_much_closer_to_the_truth():
     # the totals in the report are the statistics of the cleaned track (one source of numbers)
     p = cleaned.tracks[0].points
     assert done.distance_m == pytest.approx(geodesic_steps(p.lat, p.lon).sum(), rel=1e-6)
-    assert [s.tool for s in report.steps] == ["despike", "gaps", "stops", "smooth"]
+    assert [s.tool for s in report.steps] == ["despike", "fill_gaps", "collapse_stops", "smooth"]
     by_tool = {s.tool: s for s in report.steps}
     assert by_tool["despike"].removed >= 10
-    assert by_tool["gaps"].inserted >= 25
-    assert by_tool["stops"].changed > 200
+    assert by_tool["fill_gaps"].inserted >= 25
+    assert by_tool["collapse_stops"].changed > 200
     assert report.activities == ["walk"]
     assert "distance" in summary_line(report) and "->" in summary_line(report)
     # the input document is untouched
@@ -160,7 +164,25 @@ def test_progress_is_reported_in_order():
 
 
 def test_registry_names_every_tool():
-    assert set(TOOLS) == {"smooth", "despike", "gaps", "stops", "simplify"}
-    for name, entry in TOOLS.items():
-        assert callable(entry.function) and entry.label
-        entry.params()  # every parameter class has documented defaults
+    assert set(TOOLS) == {"smooth", "despike", "fill_gaps", "collapse_stops", "simplify"}
+    for key, tool in TOOLS.items():
+        assert callable(tool.function) and tool.label and tool.key == key
+        tool.params()  # every parameter class has documented defaults
+
+
+def test_a_broken_tool_module_fails_loudly():
+    # no fallback list: a tool module that cannot be imported stops the registry (and the window) from loading
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    code = ("import sys\n"
+            "class Broken:\n"
+            "    def find_spec(self, name, path=None, target=None):\n"
+            "        if name == 'editor.processing.stops':\n"
+            "            raise ImportError('broken on purpose')\n"
+            "sys.meta_path.insert(0, Broken())\n"
+            "import editor.processing.tools\n")
+    run = subprocess.run([sys.executable, "-c", code], cwd=Path(__file__).resolve().parents[2],
+                         capture_output=True, text=True, timeout=60)
+    assert run.returncode != 0 and "broken on purpose" in run.stderr

@@ -1,0 +1,251 @@
+"""The cleaning tools the program ships with: one :class:`ToolDescriptor` each.
+
+Order of the full clean (``batch_order``), and why, is explained in
+:mod:`editor.processing.pipeline`. A new tool gets its descriptor here (or is
+registered from elsewhere with :func:`editor.processing.tools.register`).
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from typing import Any, Mapping
+
+from .descriptor import OFF, CliOption, ControlSpec, ToolDescriptor
+from .gaps import GapParams, fill_gaps
+from .simplify import SimplifyParams, simplify
+from .smoothing import SmoothParams, smooth
+from .spikes import SpikeParams, despike
+from .stops import StopParams, collapse_stops
+
+STRENGTH = dict(minimum=0, maximum=100, step=1, decimals=0, suffix="", slider=True, auto_text="auto")
+#: Every tool that works in metres and reports totals can reuse the shared plane and the totals before it.
+PLANE_AND_TOTALS = frozenset({"plane", "before"})
+
+
+def positive(text: str) -> float:
+    """A positive number of metres or seconds."""
+    try:
+        value = float(text)
+    except ValueError:
+        raise ValueError(f"expected a number, got {text!r}") from None
+    if not value > 0:
+        raise ValueError(f"expected a positive number, got {text!r}")
+    return value
+
+
+def _smooth_option(text: str) -> Any:
+    """``auto`` (strengths by maximum likelihood), ``off``, or one strength 0..100 for both axes."""
+    value = text.strip().lower()
+    if value == "auto":
+        return {}
+    if value == "off":
+        return OFF
+    try:
+        strength = float(value)
+    except ValueError:
+        raise ValueError(f"expected auto, off or a strength 0..100, got {text!r}") from None
+    if not 0.0 <= strength <= 100.0:
+        raise ValueError(f"strength must be between 0 and 100, got {text!r}")
+    return {"horizontal_strength": strength, "vertical_strength": strength}
+
+
+def _simplify_option(text: str) -> dict:
+    # the vertical tolerance follows the horizontal one unless --simplify-vertical says otherwise,
+    # so climb totals survive thinning
+    metres = positive(text)
+    return {"tolerance_m": metres, "vertical_tolerance_m": metres}
+
+
+def _simplify_vertical_option(text: str) -> dict:
+    return {"vertical_tolerance_m": None if text.strip().lower() == "off" else positive(text)}
+
+
+def _widen_by_catch_up(params: GapParams, earlier: Mapping[str, Any]) -> GapParams:
+    """The longest gap filled is measured on the gap as recorded: add the catch-up the spike step removed."""
+    extra = float(earlier.get("catch_up_extra_s", 0.0) or 0.0)
+    return replace(params, max_gap_s=params.max_gap_s + extra) if extra > 0 else params
+
+
+SMOOTH = ToolDescriptor(
+    key="smooth",
+    label="Smooth track",
+    title="Smooth",
+    summary=(
+        "Kalman filter with a Rauch–Tung–Striebel pass: removes the jitter of the fixes while keeping the "
+        "shape of the route. 0 keeps the recording, 100 smooths the most; “auto” picks the strength "
+        "that best explains the data."
+    ),
+    function=smooth,
+    params=SmoothParams,
+    panel="strength",
+    fields={
+        "horizontal_strength": ControlSpec(label="Position strength", **STRENGTH),
+        "vertical_strength": ControlSpec(label="Elevation strength", **STRENGTH),
+        "horizontal_sigma_m": ControlSpec(label="Position noise σ", maximum=100, step=0.5, decimals=1),
+        "vertical_sigma_m": ControlSpec(label="Elevation noise σ", maximum=100, step=0.5, decimals=1),
+        "estimate_noise": ControlSpec(label="Estimate noise too"),
+        "smooth_horizontal": ControlSpec(label="Smooth position"),
+        "smooth_elevation": ControlSpec(label="Smooth elevation"),
+    },
+    batch_order=40,
+    accepts=PLANE_AND_TOTALS | {"want_std"},
+    cli_switch=False,
+    cli_options=(
+        CliOption(
+            "--smooth",
+            "smoothing: auto (maximum likelihood, default), off, or a strength 0..100",
+            parse=_smooth_option,
+            metavar="auto|off|STRENGTH",
+        ),
+    ),
+)
+
+DESPIKE = ToolDescriptor(
+    key="despike",
+    label="Remove spikes",
+    title="Spikes",
+    summary=(
+        "Finds wild fixes (a jump out and straight back, an impossible speed, the drift back to the road after "
+        "signal loss) and removes them; the Gaps tool can refill them."
+    ),
+    function=despike,
+    params=SpikeParams,
+    fields={
+        "confidence": ControlSpec(label="Gate confidence", minimum=0.9, maximum=0.999999, step=0.0005, decimals=6),
+        "horizontal_sigma_m": ControlSpec(
+            label="Position scatter σ", maximum=100, step=0.5, decimals=1, auto_text="estimate"
+        ),
+        "vertical_sigma_m": ControlSpec(
+            label="Elevation scatter σ", maximum=100, step=0.5, decimals=1, auto_text="estimate"
+        ),
+        "min_horizontal_sigma_m": ControlSpec(label="Least position σ", maximum=50, step=0.5, decimals=1),
+        "min_vertical_sigma_m": ControlSpec(label="Least elevation σ", maximum=50, step=0.5, decimals=1),
+        "check_elevation": ControlSpec(label="Check elevations"),
+        "check_speed": ControlSpec(label="Check speeds"),
+        "iterations": ControlSpec(label="Rounds", minimum=1, maximum=20),
+        "noise_allowance": ControlSpec(label="Noise allowance", maximum=10, step=0.5, decimals=1, suffix="σ"),
+        "trust_s": ControlSpec(label="Trust a stretch after", maximum=600, step=1, decimals=0),
+        "max_zone_points": ControlSpec(label="Largest zone", minimum=10, maximum=5000, step=50, suffix="points"),
+        "check_catch_up": ControlSpec(label="Check fixes after signal loss"),
+        "catch_up_window_s": ControlSpec(label="… for the first", minimum=5, maximum=300, step=5, decimals=0),
+        "catch_up_context_s": ControlSpec(label="… judged on the next", minimum=10, maximum=600, step=10, decimals=0),
+        "catch_up_passes": ControlSpec(label="… settled after", minimum=1, maximum=50, suffix="good fixes"),
+        "min_gap_s": ControlSpec(label="Signal loss: a gap over", maximum=3600, step=1, decimals=0),
+    },
+    batch_order=10,
+    accepts=PLANE_AND_TOTALS,
+)
+
+FILL_GAPS = ToolDescriptor(
+    key="fill_gaps",
+    label="Fill gaps",
+    title="Gaps",
+    summary=(
+        "Where the signal was lost, adds points along a plausible path so distance and time stay whole. "
+        "Added points are estimates."
+    ),
+    function=fill_gaps,
+    params=GapParams,
+    fields={
+        "gap_factor": ControlSpec(
+            label="Gap: over usual step ×", minimum=1, maximum=100, step=0.5, decimals=1, suffix=""
+        ),
+        "min_gap_s": ControlSpec(label="… and at least", maximum=3600, step=1, decimals=0),
+        "max_gap_s": ControlSpec(label="Longest gap filled", maximum=7200, step=10, decimals=0),
+        "long_gap": ControlSpec(
+            label="Longer gaps", choices=(("leave", "leave as they are"), ("split", "split the segment"))
+        ),
+        "horizontal_sigma_m": ControlSpec(
+            label="Position scatter σ", maximum=100, step=0.5, decimals=1, auto_text="estimate"
+        ),
+        "vertical_sigma_m": ControlSpec(
+            label="Elevation scatter σ", maximum=100, step=0.5, decimals=1, auto_text="estimate"
+        ),
+        "context_s": ControlSpec(label="Context each side", minimum=5, maximum=3600, step=5, decimals=0),
+        "mark_inserted": ControlSpec(label="Mark added points in the file"),
+    },
+    batch_order=20,
+    accepts=PLANE_AND_TOTALS,
+    batch_adjust=_widen_by_catch_up,
+    cli_options=(
+        CliOption(
+            "--max-gap",
+            "longest gap to fill, seconds, as recorded: the catch-up removed after a gap "
+            "does not count (default {default:g})",
+            parse=lambda text: {"max_gap_s": positive(text)},
+            metavar="SECONDS",
+            default_field="max_gap_s",
+        ),
+        CliOption(
+            "--split-long-gaps",
+            "start a new segment at gaps longer than --max-gap instead of leaving them",
+            const={"long_gap": "split"},
+        ),
+    ),
+)
+
+COLLAPSE_STOPS = ToolDescriptor(
+    key="collapse_stops",
+    label="Collapse stops",
+    title="Stops",
+    summary=(
+        "Where you stood still, the receiver wandered. Moves those points onto one place so a pause adds "
+        "no distance or climb."
+    ),
+    function=collapse_stops,
+    params=StopParams,
+    fields={
+        "speed_threshold_mps": ControlSpec(
+            label="Stop speed", maximum=10, step=0.05, decimals=2, auto_text="from activity"
+        ),
+        "min_duration_s": ControlSpec(label="Shortest stop", maximum=3600, step=5, decimals=0),
+        "window_s": ControlSpec(label="Averaging window", minimum=1, maximum=600, step=1, decimals=0),
+        "elevation": ControlSpec(
+            label="Elevation at stops", choices=(("median", "median of the stop"), ("keep", "keep as recorded"))
+        ),
+    },
+    batch_order=30,
+    accepts=PLANE_AND_TOTALS,
+    cli_aliases=("--stops",),
+)
+
+SIMPLIFY = ToolDescriptor(
+    key="simplify",
+    label="Simplify track",
+    title="Simplify",
+    summary=("Removes points that add nothing the tolerance can see, to make a smaller file."),
+    function=simplify,
+    params=SimplifyParams,
+    fields={
+        "method": ControlSpec(label="Method", choices=(("rdp", "Ramer–Douglas–Peucker"), ("vw", "Visvalingam–Whyatt"))),
+        "tolerance_m": ControlSpec(label="Tolerance", maximum=500, step=1, decimals=1),
+        "vertical_tolerance_m": ControlSpec(
+            label="Vertical tolerance", maximum=200, step=0.5, decimals=1, auto_text="ignore"
+        ),
+        "area_m2": ControlSpec(label="Area (VW)", maximum=100000, step=10, decimals=0),
+        "target_points": ControlSpec(label="Keep points (VW)", maximum=10_000_000, step=100, auto_text="any"),
+    },
+    # last, and only on request: thinning is a presentation choice
+    batch_order=50,
+    batch_default=False,
+    cli_switch=False,
+    cli_options=(
+        CliOption(
+            "--simplify",
+            "thin the cleaned track to this horizontal tolerance in metres (default off)",
+            parse=_simplify_option,
+            metavar="METRES",
+            turns_on=True,
+        ),
+        CliOption(
+            "--simplify-vertical",
+            "vertical tolerance of --simplify, so climbs survive (default: "
+            "the same number of metres as --simplify; off: horizontal only)",
+            parse=_simplify_vertical_option,
+            metavar="METRES|off",
+        ),
+    ),
+)
+
+#: The shipped tools, in the editor's tab order.
+BUILTIN = (SMOOTH, DESPIKE, FILL_GAPS, COLLAPSE_STOPS, SIMPLIFY)
