@@ -31,7 +31,7 @@ def main(argv: list[str]) -> int:
     from PySide6 import QtCore
 
     from editor.app import create_application
-    from editor.app.files import DEMO_RIDE
+    from editor.bundled import demo_ride
     from editor.app.settings import AppSettings
     from editor.app.window import MainWindow
 
@@ -40,8 +40,8 @@ def main(argv: list[str]) -> int:
     window = MainWindow(AppSettings.at_path(Path(settings_dir) / "settings.ini"))
     window.resize(1600, 1000)
     window.show()
-    if not window.open_path(DEMO_RIDE, confirmed=True):
-        print(f"cannot open {DEMO_RIDE}", file=sys.stderr)
+    if not window.files.open_path(demo_ride(), confirmed=True):
+        print(f"cannot open {demo_ride()}", file=sys.stderr)
         return 2
     panel = window.tool_dock.panel("smooth")
     if panel is None:
@@ -50,7 +50,7 @@ def main(argv: list[str]) -> int:
     window.tool_dock.show_panel(panel)
     panel.controls["horizontal_strength"].set_value(POSITION_STRENGTH)
     panel.controls["vertical_strength"].set_value(ELEVATION_STRENGTH)
-    window.request_preview(panel.tool, panel.params(), False, immediately=True)
+    window.previews.request_preview(panel.tool, panel.params(), False, immediately=True)
     deadline = time.monotonic() + 60
     while window.state.preview is None and time.monotonic() < deadline:
         app.processEvents(QtCore.QEventLoop.ProcessEventsFlag.AllEvents, 20)
@@ -59,7 +59,7 @@ def main(argv: list[str]) -> int:
         return 1
     # Zoom the map in far enough that the faded recording, its measured points and the bold
     # proposal can be told apart.
-    geometry = window.geometry_
+    geometry = window.display.geometry
     row = int(len(geometry) * FOCUS_FRACTION)
     x, y = geometry.x_m[row], geometry.y_m[row]
     half = MAP_HALF_WIDTH_M

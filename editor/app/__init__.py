@@ -34,7 +34,7 @@ def create_application(argv: list[str] | None = None):
 def run_editor(files: list[str]) -> int:
     """Open one window per file (the demo ride when ``files`` is empty) and run until they close."""
     app = create_application()
-    from .files import DEMO_RIDE
+    from ..bundled import demo_ride
     from .recovery_keeper import offer_recovery
     from .settings import AppSettings
     from .window import MainWindow
@@ -46,13 +46,13 @@ def run_editor(files: list[str]) -> int:
     windows = [first] if offer_recovery(first) else []
     if windows and not files:
         return app.exec()
-    for name in files or [str(DEMO_RIDE)]:
+    for name in files or [str(demo_ride())]:
         window = first if not windows else MainWindow(settings)
         window.show()
         if not Path(name).exists() and not files:
             window.statusBar().showMessage("The demo ride is not installed; open a GPX file with Ctrl+O.")
         else:
-            window.open_path(name, confirmed=True)
+            window.files.open_path(name, confirmed=True)
         windows.append(window)
     return app.exec()
 

@@ -3,8 +3,9 @@ from __future__ import annotations
 
 from PySide6 import QtCore, QtGui, QtWidgets
 
+from ..bundled import demo_ride
 from ..views.style import icon
-from ..views.units import IMPERIAL, METRIC, offset_label
+from ..units import IMPERIAL, METRIC, offset_label
 
 Key = QtGui.QKeySequence
 
@@ -31,12 +32,12 @@ def _action(window, text: str, slot, shortcut=None, icon_name: str | None = None
 def build_actions(w) -> dict[str, QtGui.QAction]:
     """Create the window's actions, menus and toolbar; returns the actions by name."""
     a: dict[str, QtGui.QAction] = {}
-    a["open"] = _action(w, "&Open…", w.open_dialog, Key.StandardKey.Open, "open")
-    a["demo"] = _action(w, "Open the &demo ride", lambda: w.confirm_discard("opening the demo") and
-                        w.open_path(w_demo_path(), confirmed=True))
-    a["save"] = _action(w, "&Save cleaned copy…", w.save_cleaned_copy, Key.StandardKey.Save, "save")
-    a["geojson"] = _action(w, "Export &GeoJSON…", lambda: w.export_as("geojson"))
-    a["csv"] = _action(w, "Export &CSV…", lambda: w.export_as("csv"))
+    a["open"] = _action(w, "&Open…", w.files.open_dialog, Key.StandardKey.Open, "open")
+    a["demo"] = _action(w, "Open the &demo ride", lambda: w.files.confirm_discard("opening the demo") and
+                        w.files.open_path(demo_ride(), confirmed=True))
+    a["save"] = _action(w, "&Save cleaned copy…", w.files.save_cleaned_copy, Key.StandardKey.Save, "save")
+    a["geojson"] = _action(w, "Export &GeoJSON…", lambda: w.files.export_as("geojson"))
+    a["csv"] = _action(w, "Export &CSV…", lambda: w.files.export_as("csv"))
     a["close"] = _action(w, "&Close window", w.close, Key.StandardKey.Close)
     a["quit"] = _action(w, "&Quit", QtWidgets.QApplication.closeAllWindows, "Ctrl+Q")
 
@@ -48,26 +49,26 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     a["redo"].setIcon(icon("redo"))
     for name in ("undo", "redo"):
         w.addAction(a[name])
-    a["delete"] = _action(w, "&Delete selected points", w.delete_selection, [Key.StandardKey.Delete, "Backspace"],
+    a["delete"] = _action(w, "&Delete selected points", w.editing.delete_selection, [Key.StandardKey.Delete, "Backspace"],
                           "delete")
-    a["trim_before"] = _action(w, "Trim &before selection", w.trim_before, "Ctrl+Shift+B", "trim_before",
+    a["trim_before"] = _action(w, "Trim &before selection", w.editing.trim_before, "Ctrl+Shift+B", "trim_before",
                                "Delete every point before the selection")
-    a["trim_after"] = _action(w, "Trim &after selection", w.trim_after, "Ctrl+Shift+E", "trim_after",
+    a["trim_after"] = _action(w, "Trim &after selection", w.editing.trim_after, "Ctrl+Shift+E", "trim_after",
                               "Delete every point after the selection")
-    a["split"] = _action(w, "S&plit segment here", w.split_segment, "Ctrl+Shift+K", "split",
+    a["split"] = _action(w, "S&plit segment here", w.editing.split_segment, "Ctrl+Shift+K", "split",
                          "Start a new segment at the first selected point")
-    a["merge"] = _action(w, "&Join with next segment", w.merge_segments, "Ctrl+Shift+J", "merge",
+    a["merge"] = _action(w, "&Join with next segment", w.editing.merge_segments, "Ctrl+Shift+J", "merge",
                          "Join the selected point's segment with the next one")
-    a["insert"] = _action(w, "&Insert point after selection", w.insert_point, ["Insert", "Ctrl+Shift+I"], "insert",
+    a["insert"] = _action(w, "&Insert point after selection", w.editing.insert_point, ["Insert", "Ctrl+Shift+I"], "insert",
                           "Add a point halfway to the next point")
-    a["sort_time"] = _action(w, "Sort points by &time", w.sort_by_time, None, None,
+    a["sort_time"] = _action(w, "Sort points by &time", w.editing.sort_by_time, None, None,
                              "Put each segment's points in time order")
-    a["select_all"] = _action(w, "Select &all points", w.select_all, Key.StandardKey.SelectAll)
-    a["select_none"] = _action(w, "Select &none", w.clear_selection, "Ctrl+Shift+A")
-    a["next"] = _action(w, "Select next point", lambda: w.step_selection(+1), "Ctrl+Right")
-    a["previous"] = _action(w, "Select previous point", lambda: w.step_selection(-1), "Ctrl+Left")
-    a["grow_next"] = _action(w, "Extend selection forward", lambda: w.step_selection(+1, True), "Ctrl+Shift+Right")
-    a["grow_previous"] = _action(w, "Extend selection backward", lambda: w.step_selection(-1, True),
+    a["select_all"] = _action(w, "Select &all points", w.editing.select_all, Key.StandardKey.SelectAll)
+    a["select_none"] = _action(w, "Select &none", w.editing.clear_selection, "Ctrl+Shift+A")
+    a["next"] = _action(w, "Select next point", lambda: w.editing.step_selection(+1), "Ctrl+Right")
+    a["previous"] = _action(w, "Select previous point", lambda: w.editing.step_selection(-1), "Ctrl+Left")
+    a["grow_next"] = _action(w, "Extend selection forward", lambda: w.editing.step_selection(+1, True), "Ctrl+Shift+Right")
+    a["grow_previous"] = _action(w, "Extend selection backward", lambda: w.editing.step_selection(-1, True),
                                  "Ctrl+Shift+Left")
 
     a["fit"] = _action(w, "&Whole track", w.fit_views, "Ctrl+0", "fit", "Zoom both views to the whole track")
@@ -89,10 +90,10 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     a["utc"] = _action(w, "Times in &UTC", lambda: w.set_utc_offset(0.0))
     a["offset"] = _action(w, "Times at a fixed &offset from UTC…", lambda: ask_offset(w))
 
-    a["apply"] = _action(w, "&Apply proposal", w.apply_preview, ["Ctrl+Return", "Ctrl+Enter"], "apply")
-    a["discard"] = _action(w, "&Discard proposal", w.discard_preview, "Escape", "discard")
+    a["apply"] = _action(w, "&Apply proposal", w.previews.apply_preview, ["Ctrl+Return", "Ctrl+Enter"], "apply")
+    a["discard"] = _action(w, "&Discard proposal", w.previews.discard_preview, "Escape", "discard")
     a["estimate"] = _action(w, "&Estimate smoothing strengths", lambda: _estimate(w), "Ctrl+Shift+M")
-    a["about"] = _action(w, "&About Trackwright", w.show_about)
+    a["about"] = _action(w, "&About Trackwright", w.files.show_about)
 
     bar = w.menuBar()
     m = bar.addMenu("&File")
@@ -139,13 +140,8 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     for name in ("open", "save", None, "undo", "redo", None, "delete", "trim_before", "trim_after", "split",
                  "merge", "insert", None, "box", "fit"):
         tb.addSeparator() if name is None else tb.addAction(a[name])
-    w.refresh_recent_menu()
+    w.files.refresh_recent_menu()
     return a
-
-
-def w_demo_path():
-    from .files import DEMO_RIDE
-    return DEMO_RIDE
 
 
 def _show_tool(w, panel) -> None:

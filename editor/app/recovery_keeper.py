@@ -102,11 +102,11 @@ def restore_into(window, entry: JournalEntry) -> bool:
         edits = load_edits(entry)
         doc = original_document(entry)
     except TrackFileError as err:
-        window.show_file_error("Cannot restore the edits", err)
+        window.files.show_file_error("Cannot restore the edits", err)
         return False
-    window.set_document(doc, entry.source_path)
+    window.display.set_document(doc, entry.source_path)
     for edit, label in zip(edits, entry.labels):
-        window.undo_stack.push(EditCommand(window.doc, edit, label))
+        window.undo_stack.push(EditCommand(window.session.doc, edit, label))
     entry.journal_path.unlink(missing_ok=True)
     window.recovery.record_now()
     window.statusBar().showMessage(f"Restored {len(edits)} unsaved edit(s) to {Path(entry.source_path).name}", 8000)

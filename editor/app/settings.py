@@ -9,7 +9,7 @@ from pathlib import Path
 
 from PySide6 import QtCore
 
-from ..views.units import UNIT_SYSTEMS, UnitSystem
+from ..units import UNIT_SYSTEMS, UnitSystem
 
 #: How many recent files the File menu lists.
 RECENT_LIMIT = 8

@@ -23,8 +23,8 @@ class ToolDock(QtWidgets.QTabWidget):
         for tool in TOOLS.values():
             panel = PANEL_KINDS[tool.panel](tool)
             panel.preview_requested.connect(lambda immediately, p=panel: self._preview(p, immediately))
-            panel.apply_requested.connect(window.apply_preview)
-            panel.discard_requested.connect(window.discard_preview)
+            panel.apply_requested.connect(window.previews.apply_preview)
+            panel.discard_requested.connect(window.previews.discard_preview)
             if isinstance(panel, SmoothingPanel):
                 panel.estimate_requested.connect(lambda p=panel: self.estimate(p))
             scroller = QtWidgets.QScrollArea()
@@ -35,7 +35,7 @@ class ToolDock(QtWidgets.QTabWidget):
             self.addTab(scroller, tool.title)
             self.setTabToolTip(self.count() - 1, tool.summary)
             self.panels.append(panel)
-        self.currentChanged.connect(lambda _i: window.discard_preview())
+        self.currentChanged.connect(lambda _i: window.previews.discard_preview())
 
     def panel(self, key: str) -> ToolPanel | None:
         """The panel of the tool registered as ``key`` (``"smooth"``)."""
@@ -53,11 +53,11 @@ class ToolDock(QtWidgets.QTabWidget):
     def _preview(self, panel: ToolPanel, immediately: bool) -> None:
         if panel is not self.current_panel():
             return
-        self.window_.request_preview(panel.tool, panel.params(), panel.selection_scope(), immediately)
+        self.window_.previews.request_preview(panel.tool, panel.params(), panel.selection_scope(), immediately)
 
     def estimate(self, panel: SmoothingPanel) -> None:
         window = self.window_
-        snapshot = window.snapshot()
+        snapshot = window.session.snapshot()
         if snapshot is None:
             return
         rows = window.state.selection.copy() if panel.selection_scope() else None
@@ -67,7 +67,7 @@ class ToolDock(QtWidgets.QTabWidget):
             return estimate_strength(snapshot, rows, params=params, progress=progress, cancelled=cancelled)
 
         panel.set_status("Estimating the strengths…")
-        window.start_long_job("Estimating strengths", work, panel.set_estimate)
+        window.previews.start_long_job("Estimating strengths", work, panel.set_estimate)
 
     # --- window notifications ---------------------------------------------------------------------
     def selection_changed(self, available: bool) -> None:

@@ -26,7 +26,7 @@ from pathlib import Path
 
 from ..io.errors import TrackFileError
 from ..io.save import same_file
-from ..processing.pipeline import CAUTION
+from .. import CAUTION
 
 #: Suffix added to an input's name for its cleaned copy in ``-d`` mode.
 OUTPUT_SUFFIX = "-cleaned"
@@ -172,8 +172,8 @@ class ProgressBar:
 
 
 def cmd_clean(args) -> int:
+    from ..io import read_document
     from ..io.export import write_document
-    from ..io.gpx import read_gpx
     from ..processing.pipeline import clean_document, summary_line
 
     inputs = list(args.inputs)
@@ -189,7 +189,7 @@ def cmd_clean(args) -> int:
         bar = ProgressBar(sys.stderr, src.name)
         try:
             bar(0.0, "reading")
-            doc = read_gpx(src)
+            doc = read_document(src)
 
             def step(fraction: float, what: str) -> None:
                 bar(0.05 + 0.85 * fraction, what)

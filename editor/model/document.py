@@ -81,6 +81,12 @@ class Track:
         """Segment number of each row."""
         return np.searchsorted(self.segment_starts, np.asarray(rows), side="right") - 1
 
+    def copy(self) -> "Track":
+        """An independent copy that later edits cannot reach: new point table and segment lists
+        (the opaque payloads are immutable and shared)."""
+        return Track(points=self.points.copy(), segment_starts=self.segment_starts.copy(), name=self.name,
+                     extra=self.extra, segment_extra=list(self.segment_extra))
+
     def equals(self, other: "Track") -> bool:
         return (self.points.equals(other.points)
                 and np.array_equal(self.segment_starts, other.segment_starts)
@@ -102,6 +108,10 @@ class Route:
     points: PointTable = field(default_factory=PointTable.empty)
     name: str | None = None
     extra: Any = None
+
+    def copy(self) -> "Route":
+        """An independent copy (new point table; the opaque payload is shared)."""
+        return Route(points=self.points.copy(), name=self.name, extra=self.extra)
 
     def equals(self, other: "Route") -> bool:
         return self.points.equals(other.points) and self.name == other.name and self.extra == other.extra
@@ -125,6 +135,12 @@ class Document:
     #: problems found while reading that did not stop it (unsorted times, ...), one line each
     warnings: list[str] = field(default_factory=list)
     changed: Signal = field(default_factory=Signal, repr=False)
+
+    def copy(self) -> "Document":
+        """An independent copy of the content, not tied to a file (``source_path`` is ``None``)."""
+        return Document(tracks=[t.copy() for t in self.tracks], routes=[r.copy() for r in self.routes],
+                        waypoints=self.waypoints.copy(), extra=self.extra, source_path=None,
+                        warnings=list(self.warnings))
 
     def equals(self, other: "Document") -> bool:
         return (len(self.tracks) == len(other.tracks)

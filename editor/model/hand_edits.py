@@ -10,9 +10,9 @@ from __future__ import annotations
 import numpy as np
 
 from ..geo.projection import LocalProjection
-from ..model.document import Track
-from ..model.edits import DeletePoints, InsertPoints, MergeSegments, ReplaceTrackPoints, SetValues, SplitSegment
-from ..model.points import PointTable
+from .document import Track
+from .edits import DeletePoints, InsertPoints, MergeSegments, ReplaceTrackPoints, SetValues, SplitSegment
+from .points import PointTable
 
 
 class HandEditError(ValueError):

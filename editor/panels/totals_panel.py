@@ -10,7 +10,7 @@ import math
 from PySide6 import QtCore, QtWidgets
 
 from ..processing.stats import Totals
-from ..views.units import METRIC, UnitSystem, format_duration
+from ..units import METRIC, UnitSystem, format_duration
 
 #: (label, how to format a Totals in given units)
 ROWS = (

@@ -45,14 +45,14 @@ from typing import Any, Callable, Mapping
 
 import numpy as np
 
-from ..model.document import Document, Route, Track
+from .. import CAUTION
+from ..model.document import Document
 from .activity import Activity
 from .cleaning_base import activity_for, planar, replan
 from .descriptor import ToolDescriptor
 from .stats import StatsParams, Totals, track_totals
 from .tools import TOOLS, batch_tools
 
-CAUTION = "Cleaned tracks are estimates, not surveyed data, and are not for navigation."
 
 
 class CleanParams:
@@ -117,15 +117,6 @@ class CleanReport:
     caution: str = CAUTION
 
 
-def copy_document(doc: Document) -> Document:
-    """An independent copy: new point tables and segment lists; opaque payloads are immutable and shared."""
-    tracks = [Track(points=t.points.copy(), segment_starts=t.segment_starts.copy(), name=t.name, extra=t.extra,
-                    segment_extra=list(t.segment_extra)) for t in doc.tracks]
-    routes = [Route(points=r.points.copy(), name=r.name, extra=r.extra) for r in doc.routes]
-    return Document(tracks=tracks, routes=routes, waypoints=doc.waypoints.copy(), extra=doc.extra,
-                    source_path=None, warnings=list(doc.warnings))
-
-
 def _steps(params: CleanParams, activity: Activity) -> list[tuple[ToolDescriptor, Any]]:
     """``(descriptor, params)`` in the documented order, the activity filled in."""
     def with_activity(p: Any) -> Any:
@@ -147,7 +138,7 @@ def clean_document(doc: Document, params: CleanParams = CleanParams(),
     ``progress(fraction, step_label)`` is called before each step and once at the end (1.0).
     Waypoints, routes, metadata, extensions and every point the steps did not touch are kept.
     """
-    out = copy_document(doc)
+    out = doc.copy()
     report = CleanReport(before=Totals(), after=Totals())
     plans, planes = [], []
     for index, track in enumerate(out.tracks):
@@ -207,4 +198,4 @@ def summary_line(report: CleanReport) -> str:
             f"ascent {b.ascent_m:.0f} -> {a.ascent_m:.0f} m, points {b.points} -> {a.points}")
 
 
-__all__ = ["CleanParams", "CleanReport", "StepReport", "clean_document", "copy_document", "summary_line", "CAUTION"]
+__all__ = ["CleanParams", "CleanReport", "StepReport", "clean_document", "summary_line"]

@@ -37,6 +37,7 @@ from typing import Callable
 
 import numpy as np
 
+from .. import CAUTION
 from ..geo.projection import LocalProjection
 from ..model.document import Track
 from .kalman import Problem
@@ -52,7 +53,6 @@ LOG10_Q_RANGE = {"horizontal": (2.0, -6.0), "vertical": (0.0, -8.0)}
 NOMINAL_SPEED_MPS = 1.0
 #: Search tolerance of the automatic estimate, in log10 q.
 LOG10_Q_TOLERANCE = 0.002
-CAUTION = "Smoothed positions are estimates, not surveyed data; do not use them for navigation."
 
 
 @dataclass(frozen=True)

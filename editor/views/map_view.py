@@ -10,7 +10,7 @@ from ..model.state import EditorState
 from .base import GRAB_PX, LinkedPlot
 from .geometry import TrackGeometry
 from .style import Palette
-from .units import METRIC, UnitSystem
+from ..units import METRIC, UnitSystem
 
 #: Waypoint names are drawn for at most this many waypoints.
 LABEL_LIMIT = 200

@@ -12,7 +12,7 @@ from ..model.state import EditorState
 from .base import LinkedPlot
 from .geometry import TrackGeometry, lod_indices, take_with_breaks
 from .style import Palette
-from .units import METRIC, UnitSystem, format_clock
+from ..units import METRIC, UnitSystem, format_clock
 
 #: Width of the uncertainty band in standard deviations (a 95 % interval of a normal distribution).
 BAND_SIGMAS = 1.96
@@ -90,7 +90,7 @@ class ProfileView(LinkedPlot):
         style = {"color": self.palette["ink"], "font-size": "9pt"}
         self.plotItem.setLabel("left", f"Elevation ({self.units.short_name})", **style)
         if self.against_time:
-            from .units import offset_label
+            from ..units import offset_label
             self.plotItem.setLabel("bottom", f"Time ({offset_label(self.utc_offset_h)})", **style)
         else:
             self.plotItem.setLabel("bottom", f"Distance ({self.units.long_name})", **style)

@@ -120,9 +120,9 @@ def run_until_both_painted(app, window: MainWindow, watcher: PaintWatcher, timeo
 def open_and_paint(app, window: MainWindow, doc_or_path) -> float:
     t0 = time.perf_counter()
     if isinstance(doc_or_path, Path):
-        window.open_path(doc_or_path, confirmed=True)
+        window.files.open_path(doc_or_path, confirmed=True)
     else:
-        window.set_document(doc_or_path)
+        window.display.set_document(doc_or_path)
     app.processEvents()
     window.grab()  # forces a full paint of every widget
     return time.perf_counter() - t0
@@ -165,9 +165,9 @@ def preview_latency(app, window: MainWindow, strength: float, repeats: int = 3) 
         control.set_value(strength + k)
         steps.clear()
         t0 = time.perf_counter()
-        window.request_preview = timed(steps, window.request_preview)
-        window.request_preview(panel.tool, panel.params(), False, immediately=True)
-        del window.request_preview
+        window.previews.request_preview = timed(steps, window.previews.request_preview)
+        window.previews.request_preview(panel.tool, panel.params(), False, immediately=True)
+        del window.previews.request_preview
         wait_for_signal(window.state.preview_changed,
                         lambda: window.state.preview is not None and window.state.preview is not previous)
         arrived = time.perf_counter()
@@ -184,11 +184,11 @@ def preview_latency(app, window: MainWindow, strength: float, repeats: int = 3) 
 def tool_alone_ms(window: MainWindow, strength: float) -> float:
     """The smoothing function called directly on the shown track (no window work), median of 3."""
     panel = window.tool_dock.panel("smooth")
-    params = panel.info.params_class(horizontal_strength=strength, vertical_strength=strength)
+    params = panel.tool.params(horizontal_strength=strength, vertical_strength=strength)
     times = []
     for _ in range(3):
         t = time.perf_counter()
-        panel.info.function(window.track(), params)
+        panel.tool.function(window.session.track(), params)
         times.append((time.perf_counter() - t) * 1000)
     return float(np.median(times))
 
@@ -250,7 +250,7 @@ def main() -> int:
         print(f"    of which until the worker's result arrived: {worker:.1f} ms; the smoothing function "
               f"alone takes {tool_alone_ms(window, 40):.1f} ms on this track")
         report("longest UI-thread step of a 100k preview", ui, 50, "ms")
-        window.discard_preview()
+        window.previews.discard_preview()
     else:
         print("smoothing tool not available: preview latency not measured")
 

@@ -84,8 +84,8 @@ def window(qtbot, dialogs, settings):
     qtbot.waitExposed(win)
     yield win
     win.undo_stack.setClean()  # teardown closes the window; nothing to ask about
-    win.preview_runner.cancel()
-    win.cancel_long_job()
+    win.previews.runner.cancel()
+    win.previews.cancel_long_job()
     assert win.pool.wait(30) and win.long_pool.wait(30)
     assert QtWidgets.QApplication.activeModalWidget() is None
 

@@ -29,7 +29,7 @@ def ride_copy(tmp_path) -> Path:
 
 
 def test_opening_the_demo_ride_fills_both_views(window, ride_copy):
-    assert window.open_path(ride_copy)
+    assert window.files.open_path(ride_copy)
     fresh = read_gpx(ride_copy)
     n = len(fresh.tracks[0].points)
     assert n > 1000
@@ -44,16 +44,16 @@ def test_opening_the_demo_ride_fills_both_views(window, ride_copy):
 def test_save_cleaned_copy_is_schema_valid_and_leaves_the_original_alone(window, dialogs, ride_copy,
                                                                         gpx_schema, tmp_path):
     original_bytes = ride_copy.read_bytes()
-    window.open_path(ride_copy)
-    doc = window.doc
+    window.files.open_path(ride_copy)
+    doc = window.session.doc
     window.state.set_selection([5, 6, 7])
-    window.delete_selection()
+    window.editing.delete_selection()
     window.state.set_selection([100])
-    window.insert_point()
+    window.editing.insert_point()
     assert window.isWindowModified()
     expected = tmp_path / "morning ride.tidy.gpx"
     dialogs.save_path = str(expected)
-    assert window.save_cleaned_copy()
+    assert window.files.save_cleaned_copy()
     assert expected.exists()
     gpx_schema.validate(str(expected))           # raises on any schema violation
     assert ride_copy.read_bytes() == original_bytes
@@ -61,57 +61,57 @@ def test_save_cleaned_copy_is_schema_valid_and_leaves_the_original_alone(window,
     saved = read_gpx(expected)
     assert len(saved.tracks[0].points) == len(doc.tracks[0].points)
     # The default name offered is beside the original, with our suffix.
-    from editor.app.files import cleaned_copy_name
+    from editor.app.session import cleaned_copy_name
     assert cleaned_copy_name(ride_copy) == expected
 
 
 def test_overwriting_asks_first_and_cancel_keeps_the_file(window, dialogs, ride_copy, tmp_path):
-    window.open_path(ride_copy)
+    window.files.open_path(ride_copy)
     target = tmp_path / "existing.gpx"
     target.write_bytes(b"keep me")
     dialogs.save_path = str(target)
     dialogs.warning_answer = QtWidgets.QMessageBox.StandardButton.Cancel
-    assert not window.save_cleaned_copy()
+    assert not window.files.save_cleaned_copy()
     assert target.read_bytes() == b"keep me"
     assert "already exists" in dialogs.asked[-1][1]
     # Choosing the original itself gets the stronger warning, and Cancel keeps its bytes.
     original = ride_copy.read_bytes()
     dialogs.save_path = str(ride_copy)
-    assert not window.save_cleaned_copy()
+    assert not window.files.save_cleaned_copy()
     assert "the file you opened" in dialogs.asked[-1][1]
     assert ride_copy.read_bytes() == original
 
 
 def test_undoing_everything_equals_a_fresh_read(window, ride_copy):
-    window.open_path(ride_copy)
+    window.files.open_path(ride_copy)
     window.state.set_selection(np.arange(200, 260))
-    window.delete_selection()
+    window.editing.delete_selection()
     window.state.set_selection([400])
-    window.split_segment()
+    window.editing.split_segment()
     window.state.set_selection([30])
-    window.trim_before()
+    window.editing.trim_before()
     window.state.set_selection([10])
-    window.insert_point()
-    window.move_point(50, 12.0, 34.0)
-    window.set_point_elevation(51, 999.0)
+    window.editing.insert_point()
+    window.editing.move_point(50, 12.0, 34.0)
+    window.editing.set_point_elevation(51, 999.0)
     assert window.undo_stack.count() == 6
     window.undo_stack.setIndex(0)
-    assert window.doc.equals(read_gpx(ride_copy))
+    assert window.session.doc.equals(read_gpx(ride_copy))
 
 
 def test_malformed_file_names_the_problem_and_the_window_keeps_working(window, dialogs, tmp_path, ride_copy):
-    window.open_path(ride_copy)
-    shown = window.doc
+    window.files.open_path(ride_copy)
+    shown = window.session.doc
     bad = tmp_path / "broken.gpx"
     bad.write_text('<?xml version="1.0"?>\n<gpx version="1.1" creator="x" '
                    'xmlns="http://www.topografix.com/GPX/1/1">\n<trk><trkseg>\n'
                    '<trkpt lat="north" lon="9.0"></trkpt>\n</trkseg></trk></gpx>\n', encoding="utf-8")
-    assert not window.open_path(bad)
+    assert not window.files.open_path(bad)
     kind, text = dialogs.asked[-1]
     assert kind == "warning" and "broken.gpx" in text
-    assert window.doc is shown                      # still showing the previous file
+    assert window.session.doc is shown                      # still showing the previous file
     window.state.set_selection([3])
-    window.delete_selection()                       # and still editing it
+    window.editing.delete_selection()                       # and still editing it
     assert window.undo_stack.count() == 1
     assert QtWidgets.QApplication.activeModalWidget() is None
 
@@ -121,7 +121,7 @@ def test_truncated_file_offers_the_points_read_so_far(window, dialogs, tmp_path,
     cut = tmp_path / "cut.gpx"
     cut.write_bytes(data[: len(data) // 2])
     dialogs.question_answer = QtWidgets.QMessageBox.StandardButton.Yes
-    assert window.open_path(cut)
+    assert window.files.open_path(cut)
     kind, text = dialogs.asked[-1]
     assert kind == "question" and "cut.gpx" in text and "line" in text
     shown = len(window.map_view.geometry)
@@ -129,26 +129,26 @@ def test_truncated_file_offers_the_points_read_so_far(window, dialogs, tmp_path,
     assert "read-only" in window.windowTitle()
     # Salvaged points are read-only: edits are refused and say why.
     window.state.set_selection([1])
-    window.delete_selection()
+    window.editing.delete_selection()
     assert window.undo_stack.count() == 0 and "read-only" in window.statusBar().currentMessage()
     # Declining leaves the window on what it showed before.
     dialogs.question_answer = QtWidgets.QMessageBox.StandardButton.No
-    assert not window.open_path(cut)
+    assert not window.files.open_path(cut)
     assert len(window.map_view.geometry) == shown
     # Saving a copy keeps the damaged file as it was and makes the copy the editable document.
     copy = tmp_path / "cut-salvaged.gpx"
-    assert window.write_copy(copy)
+    assert window.files.write_copy(copy)
     assert cut.read_bytes() == data[: len(data) // 2]
     assert len(read_gpx(copy).tracks[0].points) == shown
     window.state.set_selection([1])
-    window.delete_selection()
+    window.editing.delete_selection()
     assert window.undo_stack.count() == 1 and "read-only" not in window.windowTitle()
 
 
 def test_closing_with_unsaved_changes_asks_and_cancel_keeps_the_window(window, dialogs, ride_copy):
-    window.open_path(ride_copy)
+    window.files.open_path(ride_copy)
     window.state.set_selection([1])
-    window.delete_selection()
+    window.editing.delete_selection()
     dialogs.question_answer = QtWidgets.QMessageBox.StandardButton.Cancel
     assert not window.close()
     assert window.isVisible()
@@ -158,15 +158,15 @@ def test_closing_with_unsaved_changes_asks_and_cancel_keeps_the_window(window, d
 
 
 def test_export_geojson_and_csv(window, dialogs, ride_copy, tmp_path):
-    window.open_path(ride_copy)
+    window.files.open_path(ride_copy)
     out = tmp_path / "ride.geojson"
     dialogs.save_path = str(out)
-    assert window.export_as("geojson")
+    assert window.files.export_as("geojson")
     data = json.loads(out.read_text(encoding="utf-8"))
     assert data["type"] == "FeatureCollection"      # RFC 7946, section 3.3
     out_csv = tmp_path / "ride.csv"
     dialogs.save_path = str(out_csv)
-    assert window.export_as("csv")
+    assert window.files.export_as("csv")
     assert out_csv.read_text(encoding="utf-8").count("\n") > 1000
 
 
@@ -177,7 +177,7 @@ def test_drop_a_file_opens_it(window, ride_copy, qtbot):
     drop = QtGui.QDropEvent(QtCore.QPointF(50, 50), QtCore.Qt.DropAction.CopyAction, mime,
                             QtCore.Qt.MouseButton.NoButton, QtCore.Qt.KeyboardModifier.NoModifier)
     window.dropEvent(drop)
-    assert window.source_path == ride_copy
+    assert window.session.source_path == ride_copy
 
 
 def test_a_file_with_several_tracks_lists_them_and_switches(window, tmp_path):
@@ -186,7 +186,7 @@ def test_a_file_with_several_tracks_lists_them_and_switches(window, tmp_path):
     doc.tracks.append(synthetic_ride(500, seed=2, segments=3).tracks[0])
     path = tmp_path / "two.gpx"
     write_gpx(doc, path)
-    window.open_path(path)
+    window.files.open_path(path)
     assert window.track_list.topLevelItemCount() == 2
     assert window.tracks_dock.isVisibleTo(window)
     second = window.track_list.topLevelItem(1)

@@ -17,7 +17,7 @@ def _key(window, key, modifiers=QtCore.Qt.KeyboardModifier.NoModifier):
 
 def test_every_hand_edit_is_one_step_and_undoing_all_restores_the_document(window, qtbot):
     doc = synthetic_ride(1200, seed=3)
-    window.set_document(doc)
+    window.display.set_document(doc)
     fresh = synthetic_ride(1200, seed=3)  # the same invented input, built again independently
     window.activateWindow()
     window.setFocus()
@@ -65,17 +65,17 @@ def test_every_hand_edit_is_one_step_and_undoing_all_restores_the_document(windo
 
 def test_actions_that_do_not_apply_explain_why_and_change_nothing(window):
     doc = synthetic_ride(300, segments=1)
-    window.set_document(doc)
+    window.display.set_document(doc)
     window.state.set_selection([0])
-    window.split_segment()                     # a segment's first point cannot start a new one
-    window.trim_before()                       # nothing before row 0
-    window.merge_segments()                    # only one segment
+    window.editing.split_segment()                     # a segment's first point cannot start a new one
+    window.editing.trim_before()                       # nothing before row 0
+    window.editing.merge_segments()                    # only one segment
     assert window.undo_stack.count() == 0
     assert "segment" in window.statusBar().currentMessage()
 
 
 def test_keyboard_selection_steps_and_grows(window):
-    window.set_document(synthetic_ride(300, segments=1))
+    window.display.set_document(synthetic_ride(300, segments=1))
     window.activateWindow()
     _key(window, QtCore.Qt.Key.Key_Right, Ctrl)
     assert list(window.state.selection) == [0]
@@ -93,9 +93,9 @@ def test_keyboard_selection_steps_and_grows(window):
 
 def test_units_time_offset_and_layout_are_remembered(window, settings, dialogs, qtbot):
     from editor.app.window import MainWindow
-    from editor.views.units import IMPERIAL
+    from editor.units import IMPERIAL
 
-    window.set_document(synthetic_ride(400))
+    window.display.set_document(synthetic_ride(400))
     window.actions_["imperial"].trigger()
     window.actions_["offset"].trigger()          # the recorder answers +2 h
     window.actions_["side_by_side"].trigger()
@@ -117,7 +117,7 @@ def test_units_time_offset_and_layout_are_remembered(window, settings, dialogs, 
 
 def test_profile_against_time_uses_clock_time(window):
     doc = synthetic_ride(400)
-    window.set_document(doc)
+    window.display.set_document(doc)
     window.actions_["time_axis"].trigger()
     x, _ = window.profile_view.track_xy(window.profile_view.geometry)
     assert np.allclose(x, doc.tracks[0].points.time_s())
@@ -152,7 +152,7 @@ def test_edit_command_applies_the_edit_and_its_inverse_only(qtbot):
 def test_times_out_of_order_are_offered_for_sorting_and_sorting_is_one_undo_step(window, dialogs, tmp_path):
     from PySide6 import QtWidgets as W
 
-    from editor.commands.hand_edits import backward_time_count
+    from editor.model.hand_edits import backward_time_count
     from editor.io.gpx import read_gpx
 
     gpx = ['<?xml version="1.0" encoding="UTF-8"?>',
@@ -167,9 +167,9 @@ def test_times_out_of_order_are_offered_for_sorting_and_sorting_is_one_undo_step
     path = tmp_path / "shuffled.gpx"
     path.write_text("\n".join(gpx))
     dialogs.question_answer = W.QMessageBox.StandardButton.Yes
-    assert window.open_path(path, confirmed=True)
+    assert window.files.open_path(path, confirmed=True)
     assert any("Times out of order" in text for kind, text in dialogs.asked if kind == "question")
-    track = window.doc.tracks[0]
+    track = window.session.doc.tracks[0]
     # one backward step inside segment 0; the second segment's earlier time is not compared across segments
     assert window.undo_stack.count() == 1 and window.undo_stack.text(0) == "Sort points by time"
     assert backward_time_count(track) == 0
@@ -179,4 +179,4 @@ def test_times_out_of_order_are_offered_for_sorting_and_sorting_is_one_undo_step
     assert "<h:n>3</h:n>" in str(track.points.extra[5])
     assert track.segment_starts.tolist() == [0, 8]
     window.undo_stack.undo()
-    assert window.doc.equals(read_gpx(path))
+    assert window.session.doc.equals(read_gpx(path))

@@ -16,7 +16,7 @@ Shift = QtCore.Qt.KeyboardModifier.ShiftModifier
 
 def test_both_views_hold_every_point(window):
     doc = synthetic_ride(1500)
-    window.set_document(doc)
+    window.display.set_document(doc)
     assert len(window.map_view.geometry) == 1500 == len(window.profile_view.geometry)
     # Profile distance is the running sum of the core's ellipsoidal step lengths, without the
     # step across the segment boundary (the convention of editor.processing.stats).
@@ -28,7 +28,7 @@ def test_both_views_hold_every_point(window):
 
 
 def test_hover_on_profile_moves_the_map_marker(window, qtbot):
-    window.set_document(synthetic_ride(1500))
+    window.display.set_document(synthetic_ride(1500))
     settle(qtbot)
     prof = window.profile_view
     row = 900
@@ -44,7 +44,7 @@ def test_hover_on_profile_moves_the_map_marker(window, qtbot):
 
 
 def test_profile_range_selects_the_same_rows_on_the_map(window, qtbot):
-    window.set_document(synthetic_ride(1500))
+    window.display.set_document(synthetic_ride(1500))
     settle(qtbot)
     prof = window.profile_view
     d = prof.geometry.distance_m / 1000.0
@@ -62,7 +62,7 @@ def test_profile_range_selects_the_same_rows_on_the_map(window, qtbot):
 
 
 def test_box_on_map_selects_rows_and_profile_shows_the_range(window, qtbot):
-    window.set_document(synthetic_ride(1500, segments=1))
+    window.display.set_document(synthetic_ride(1500, segments=1))
     settle(qtbot)
     m = window.map_view
     x, y = m.geometry.x_m, m.geometry.y_m
@@ -92,7 +92,7 @@ def _zoom_map_on(window, row, qtbot, half_width_m=60.0):
 
 def test_dragging_a_point_is_one_undo_step_and_undo_restores_it_exactly(window, qtbot):
     doc = synthetic_ride(1500)
-    window.set_document(doc)
+    window.display.set_document(doc)
     original = doc.tracks[0].points.copy()
     row = 321
     x, y = _zoom_map_on(window, row, qtbot)
@@ -116,7 +116,7 @@ def test_dragging_a_point_is_one_undo_step_and_undo_restores_it_exactly(window, 
 
 def test_elevation_drag_on_profile(window, qtbot):
     doc = synthetic_ride(1500)
-    window.set_document(doc)
+    window.display.set_document(doc)
     prof = window.profile_view
     row = 700
     d = prof.geometry.distance_m[row] / 1000.0

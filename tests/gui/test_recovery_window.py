@@ -29,9 +29,9 @@ CHILD = textwrap.dedent("""
     import numpy as np
     app = create_application()
     window = MainWindow(AppSettings.at_path({settings!r}))
-    assert window.open_path({source!r}, confirmed=True)
-    window.push_edit(DeletePoints(0, np.array([5, 6, 7])), "Delete 3 points")
-    window.push_edit(SetValues(0, np.array([20]), {{"ele": np.array([999.0])}}), "Set elevation")
+    assert window.files.open_path({source!r}, confirmed=True)
+    window.editing.push_edit(DeletePoints(0, np.array([5, 6, 7])), "Delete 3 points")
+    window.editing.push_edit(SetValues(0, np.array([20]), {{"ele": np.array([999.0])}}), "Set elevation")
     window.recovery.record_now()
     os.kill(os.getpid(), signal.SIGKILL)
 """)
@@ -63,14 +63,14 @@ def test_killed_editor_is_restored_exactly(tmp_path, qtbot, dialogs):
     dialogs.question_answer = QtWidgets.QMessageBox.StandardButton.Yes
     assert offer_recovery(window)
     assert "Restore unsaved edits" in dialogs.asked[0][1]
-    assert window.doc.equals(expected)
+    assert window.session.doc.equals(expected)
     assert [window.undo_stack.text(i) for i in range(window.undo_stack.count())] == ["Delete 3 points",
                                                                                       "Set elevation"]
     window.undo_stack.setIndex(0)
-    assert window.doc.equals(read_gpx(source))  # undo still reaches the file as it was
+    assert window.session.doc.equals(read_gpx(source))  # undo still reaches the file as it was
     window.undo_stack.setIndex(2)
     # A clean save removes the journal.
-    assert window.write_copy(tmp_path / "tunnel-cleaned.gpx")
+    assert window.files.write_copy(tmp_path / "tunnel-cleaned.gpx")
     assert not list(settings.recovery_dir.glob("*.twjournal"))
     window.undo_stack.setClean()
 
@@ -104,9 +104,9 @@ def test_declining_removes_the_journal(tmp_path, qtbot, dialogs):
 def test_tool_apply_writes_the_journal_at_once_and_undo_to_clean_removes_it(window, tmp_path, qtbot):
     source = tmp_path / "tunnel.gpx"
     shutil.copy(DEMO, source)
-    assert window.open_path(source, confirmed=True)
+    assert window.files.open_path(source, confirmed=True)
     journals = lambda: list(window.settings.recovery_dir.glob("*.twjournal"))  # noqa: E731
-    window.push_edit(DeletePoints(0, np.array([3])), "Delete 1 point")
+    window.editing.push_edit(DeletePoints(0, np.array([3])), "Delete 1 point")
     assert journals() == []  # a hand edit waits for the journal interval
     panel = window.tool_dock.panel("smooth")
     window.tool_dock.show_panel(panel)

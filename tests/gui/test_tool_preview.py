@@ -12,7 +12,7 @@ from gui_support import DEMO_RIDE
 
 @pytest.fixture
 def demo(window, tmp_path):
-    window.open_path(DEMO_RIDE)
+    window.files.open_path(DEMO_RIDE)
     return window
 
 
@@ -25,7 +25,7 @@ def _wait_preview(qtbot, window, previous=None):
 
 def test_moving_the_smoothing_control_previews_without_touching_the_document(demo, qtbot):
     window = demo
-    before = window.doc.tracks[0].points.copy()
+    before = window.session.doc.tracks[0].points.copy()
     panel = window.tool_dock.panel("smooth")
     window.tool_dock.show_panel(panel)
     vertical = panel.controls["vertical_strength"]
@@ -41,14 +41,14 @@ def test_moving_the_smoothing_control_previews_without_touching_the_document(dem
     # Totals show before -> after; after is the core's statistics of the proposed track.
     now_text, after_text = window.totals_panel.text_of("Ascent")
     assert after_text == f"{first.after.ascent_m:,.0f} m"
-    assert now_text == f"{track_totals(window.doc.tracks[0]).ascent_m:,.0f} m"
+    assert now_text == f"{track_totals(window.session.doc.tracks[0]).ascent_m:,.0f} m"
     assert first.after.ascent_m < first.before.ascent_m      # smoothing removes noise climb
     # A stronger setting gives a new preview with a different ascent; the document is untouched.
     vertical.slider.setValue(95)
     second = _wait_preview(qtbot, window, first)
     assert second.after.ascent_m != first.after.ascent_m
     assert window.totals_panel.text_of("Ascent")[1] == f"{second.after.ascent_m:,.0f} m"
-    assert window.doc.tracks[0].points.equals(before)
+    assert window.session.doc.tracks[0].points.equals(before)
     assert window.undo_stack.count() == 0
     # Discard drops the overlay.
     panel.discard_button.click()
@@ -68,13 +68,13 @@ def test_apply_is_one_step_and_undo_restores_the_file_exactly(demo, qtbot):
     panel.apply_button.click()
     assert window.state.preview is None
     assert window.undo_stack.count() == 1 and window.undo_stack.text(0) == proposal.label
-    applied = window.doc.tracks[0].points
+    applied = window.session.doc.tracks[0].points
     assert np.array_equal(applied.lat, proposal.points.lat)
     assert window.isWindowModified()
     window.undo_stack.undo()
-    assert window.doc.equals(read_gpx(DEMO_RIDE))
+    assert window.session.doc.equals(read_gpx(DEMO_RIDE))
     window.undo_stack.redo()
-    assert np.array_equal(window.doc.tracks[0].points.ele, proposal.points.ele)
+    assert np.array_equal(window.session.doc.tracks[0].points.ele, proposal.points.ele)
 
 
 def test_selection_scope_limits_the_tool_to_the_selected_rows(demo, qtbot):
@@ -100,12 +100,12 @@ def test_stale_results_are_dropped(demo, qtbot):
     function = panel.tool.function
     params_class = panel.tool.params
     for strength in (10, 40, 90):
-        window.request_preview(panel.tool, params_class(horizontal_strength=strength, vertical_strength=strength),
+        window.previews.request_preview(panel.tool, params_class(horizontal_strength=strength, vertical_strength=strength),
                                False, immediately=True)
     proposal = _wait_preview(qtbot, window)
     assert window.pool.wait(30)
     qtbot.wait(50)
-    expected = function(window.doc.tracks[0], params_class(horizontal_strength=90, vertical_strength=90))
+    expected = function(window.session.doc.tracks[0], params_class(horizontal_strength=90, vertical_strength=90))
     assert window.state.preview is proposal
     assert np.array_equal(proposal.points.ele, expected.points.ele, equal_nan=True)
 
@@ -116,7 +116,7 @@ def test_strength_estimate_runs_with_progress_and_fills_the_controls(demo, qtbot
     window.tool_dock.show_panel(panel)
     panel.estimate_button.click()
     assert window.progress.isVisibleTo(window) and window.cancel_button.isVisibleTo(window)
-    qtbot.waitUntil(lambda: not window.long_job.running, timeout=30000)
+    qtbot.waitUntil(lambda: not window.previews.long_job.running, timeout=30000)
     qtbot.waitUntil(lambda: not window.progress.isVisibleTo(window), timeout=2000)
     h = panel.controls["horizontal_strength"].value()
     v = panel.controls["vertical_strength"].value()
@@ -143,7 +143,7 @@ def test_automatic_strength_is_estimated_once_per_track_state(demo, qtbot, monke
         assert previous.info["horizontal_strength"] == pytest.approx(strength)
     assert len(calls) == 1
     # An edit changes the track: the next preview estimates again.
-    window.push_edit(DeletePoints(0, np.array([10])), "Delete 1 point")
+    window.editing.push_edit(DeletePoints(0, np.array([10])), "Delete 1 point")
     qtbot.wait(30)
     panel.preview_button.click()
     _wait_preview(qtbot, window, None)

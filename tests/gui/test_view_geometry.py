@@ -6,7 +6,7 @@ import numpy as np
 from editor.geo import LocalProjection, step_lengths
 from editor.model import SetValues
 from editor.views.geometry import BREAK, TrackGeometry, lod_indices, take_with_breaks
-from editor.views.units import IMPERIAL, METRIC, format_clock, format_duration
+from editor.units import IMPERIAL, METRIC, format_clock, format_duration
 from gui_support import synthetic_ride
 
 

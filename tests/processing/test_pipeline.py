@@ -11,7 +11,7 @@ from editor.io.gpx import gpx_bytes, read_gpx_bytes
 from editor.io.payload import is_inserted
 from editor.model import Document, PointTable
 from editor.processing.cleaning_base import planar, replan
-from editor.processing.pipeline import CleanParams, clean_document, copy_document, summary_line
+from editor.processing.pipeline import CleanParams, clean_document, summary_line
 from editor.processing.stats import climb
 from editor.processing.gaps import GapParams, fill_gaps
 from editor.processing.simplify import SimplifyParams
@@ -100,7 +100,7 @@ def test_steps_equal_applying_each_proposal_in_turn():
     steps = ((despike, SpikeParams(activity="walk")), (fill_gaps, GapParams(activity="walk")),
              (collapse_stops, StopParams(activity="walk")),
              (smooth, SmoothParams(horizontal_strength=60, vertical_strength=60)))
-    manual, own = copy_document(doc), copy_document(doc)
+    manual, own = doc.copy(), doc.copy()
     for fn, p in steps:
         fn(manual.tracks[0], p, plane=planar(manual.tracks[0], projection)).edit().apply(manual)
         fn(own.tracks[0], p).edit().apply(own)  # each tool centring its own projection

@@ -1,0 +1,180 @@
+"""Tool previews off the UI thread, apply and discard, and long jobs with a progress bar.
+
+A :class:`PreviewController` runs a tool on the session's snapshot of the shown
+track in a worker; only the newest result becomes the preview. Values a preview
+can reuse (the automatic smoothing strengths, the track's totals and its plane
+projection) live in the session's per-revision cache.
+"""
+from __future__ import annotations
+
+from dataclasses import replace
+from typing import TYPE_CHECKING, Any, Callable
+
+import numpy as np
+from PySide6 import QtCore
+
+from ..geo.projection import LocalProjection
+from ..processing.cleaning_base import planar
+from ..processing.descriptor import ToolDescriptor
+from ..processing import smoothing
+from ..processing.smoothing import SmoothParams
+from ..processing.stats import track_totals
+from .session import Session
+from .workers import LongJob, PreviewRunner, WorkerPool
+
+if TYPE_CHECKING:
+    from .window import MainWindow
+
+
+class PreviewController(QtCore.QObject):
+    """Previews, apply, discard and long jobs of one window."""
+
+    def __init__(self, window: MainWindow, session: Session, pool: WorkerPool, long_pool: WorkerPool) -> None:
+        super().__init__(window)
+        self.window = window
+        self.session = session
+        self.pool = pool
+        self.long_pool = long_pool
+        self.runner = PreviewRunner(pool, self)
+        self.runner.result_ready.connect(self._preview_ready)
+        self.runner.failed.connect(self._preview_failed)
+        self.runner.started.connect(lambda: window.tool_dock.set_status("Computing the proposal…"))
+        self.long_job: LongJob | None = None
+
+    # --- tool previews ----------------------------------------------------------------------------
+    def request_preview(self, tool: ToolDescriptor, params: Any, selection_only: bool,
+                        immediately: bool = False) -> None:
+        """Compute ``tool.function(snapshot, params, rows=..., track_index=...)`` in the background."""
+        session, state = self.session, self.session.state
+        snapshot = session.snapshot()
+        if snapshot is None or not len(snapshot.points):
+            self.window.tool_dock.set_status("The shown track has no points to work on (the file may hold only "
+                                      "waypoints or routes).")
+            return
+        rows = state.selection.copy() if selection_only and len(state.selection) else None
+        track_index = state.track
+        lat0, lon0 = self.window.projection.lat0, self.window.projection.lon0
+        cache = session.preview_cache()
+        strengths = self._cached_strengths(params, rows, cache)
+        # only the profile draws an uncertainty band; "before" and "plane" are filled in by the worker
+        kwargs_wanted = tool.optional_inputs(before=None, plane=None, want_std="vertical")
+        function = tool.function
+
+        def work():
+            kwargs = dict(kwargs_wanted)
+            if "before" in kwargs:  # the shown track's totals, once per track state
+                if cache.get("before") is None:
+                    cache["before"] = track_totals(snapshot)
+                kwargs["before"] = cache["before"]
+            if "plane" in kwargs:  # the shown track in metres, once per track state
+                if cache.get("plane") is None:
+                    cache["plane"] = planar(snapshot)
+                kwargs["plane"] = cache["plane"]
+            proposal = function(snapshot, strengths(snapshot, params), rows=rows, track_index=track_index,
+                                **kwargs)
+            # Project the proposal for the map here, off the UI thread (pyproj objects stay
+            # in the thread that made them).
+            xy = LocalProjection(lat0, lon0).to_xy(proposal.points.lat, proposal.points.lon)
+            return proposal, xy
+
+        self.runner.request(work, immediately=immediately)
+
+    @staticmethod
+    def _cached_strengths(params: Any, rows: np.ndarray | None, cache: dict) -> Callable[[Any, Any], Any]:
+        """For smoothing with an automatic strength: estimate it once per track state, not per preview.
+
+        Moving one strength control re-runs the tool; the other axis' maximum-likelihood
+        estimate does not change with it, so it is kept (per track state, selection and noise
+        settings) and handed to the tool as a fixed strength. Returns a function
+        ``(snapshot, params) -> params`` for the worker.
+        """
+        if not isinstance(params, SmoothParams) or params.estimate_noise:
+            return lambda _snapshot, p: p
+        base = (None if rows is None else rows.tobytes(),
+                params.horizontal_sigma_m, params.vertical_sigma_m)
+        wanted = {axis: getattr(params, f"{axis}_strength") is None and getattr(params, f"smooth_{flag}")
+                  for axis, flag in (("horizontal", "horizontal"), ("vertical", "elevation"))}
+
+        def fill(snapshot, p):
+            missing = [axis for axis, auto in wanted.items() if auto and (base, axis) not in cache]
+            if missing:
+                # Estimate only the axes not known yet; the others get a placeholder fixed strength.
+                ask = replace(p, **{f"{axis}_strength": (None if axis in missing else 50.0) for axis in wanted})
+                estimate = smoothing.estimate_strength(snapshot, rows, params=ask)
+                for axis in missing:
+                    value = getattr(estimate, f"{axis}_strength")
+                    if np.isfinite(value):
+                        cache[(base, axis)] = float(value)
+            known = {f"{axis}_strength": cache[(base, axis)] for axis, auto in wanted.items()
+                     if auto and (base, axis) in cache}
+            return replace(p, **known) if known else p
+
+        return fill
+
+    def _preview_ready(self, result: tuple) -> None:
+        proposal, xy = result
+        if proposal is None or proposal.track != self.session.state.track:
+            return
+        self.window.map_view.prepare_proposal_xy(proposal, xy)
+        self.session.state.set_preview(proposal)
+
+    def _preview_failed(self, message: str) -> None:
+        first = message.splitlines()[0]
+        self.window.tool_dock.set_status(f"The tool could not run: {first}")
+        self.window.statusBar().showMessage(f"Tool failed: {first}", 8000)
+
+    def apply_preview(self) -> bool:
+        """Commit the previewed proposal as one undo step."""
+        status = self.window.statusBar()
+        proposal = self.session.state.preview
+        if proposal is None:
+            status.showMessage("There is no proposal to apply yet.", 5000)
+            return False
+        self.runner.cancel()
+        self.session.state.set_preview(None)
+        if proposal.is_noop():
+            status.showMessage("The proposal changes nothing.", 5000)
+            return False
+        if not self.window.editing.push_edit(proposal.edit(), proposal.label):
+            return False
+        self.window.recovery.record_now()
+        status.showMessage(f"Applied: {proposal.label}", 5000)
+        return True
+
+    def discard_preview(self) -> None:
+        self.runner.cancel()
+        self.session.state.set_preview(None)
+
+    # --- long jobs --------------------------------------------------------------------------------
+    def start_long_job(self, title: str, work: Callable[..., Any], on_done: Callable[[Any], None]) -> LongJob | None:
+        """Run ``work(progress, cancelled)`` with a progress bar and a Cancel button."""
+        window = self.window
+        if self.long_job is not None and self.long_job.running:
+            window.statusBar().showMessage("Another computation is still running.", 5000)
+            return None
+        job = LongJob(self.long_pool, work, self)
+        self.long_job = job
+        window.progress.setValue(0)
+        window.progress.setFormat(f"{title} %p%")
+        window.progress.show()
+        window.cancel_button.show()
+        job.progress.connect(lambda f: window.progress.setValue(int(f * 1000)))
+
+        def finished(result: Any = None, error: str | None = None) -> None:
+            window.progress.hide()
+            window.cancel_button.hide()
+            if error is None:
+                on_done(result)
+            elif error == "cancelled":
+                window.statusBar().showMessage(f"{title}: cancelled.", 5000)
+            else:
+                window.statusBar().showMessage(f"{title} failed: {error.splitlines()[0]}", 8000)
+
+        job.done.connect(lambda result: finished(result))
+        job.failed.connect(lambda error: finished(error=error))
+        job.start()
+        return job
+
+    def cancel_long_job(self) -> None:
+        if self.long_job is not None and self.long_job.running:
+            self.long_job.cancel()

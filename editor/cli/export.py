@@ -1,0 +1,32 @@
+"""``trackwright export IN -o OUT``: write a track file as GPX 1.1, GeoJSON or CSV (by OUT's extension)."""
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+from typing import Any
+
+from ..io import read_document
+from ..io.errors import TrackFileError
+from ..io.export import write_document
+from ..io.save import same_file
+
+
+def add_parser(subparsers: Any) -> argparse.ArgumentParser:
+    """Register the ``export`` subcommand."""
+    p = subparsers.add_parser("export", help="write a GPX file as GPX 1.1, GeoJSON or CSV (by OUT's extension)")
+    p.add_argument("input", type=Path)
+    p.add_argument("-o", "--output", type=Path, required=True, help="output file: .gpx, .geojson or .csv")
+    p.set_defaults(run=cmd_export)
+    return p
+
+
+def cmd_export(args: argparse.Namespace) -> int:
+    src, dst = Path(args.input), Path(args.output)
+    if same_file(src, dst):
+        raise TrackFileError(dst, "refusing to overwrite the input file; choose another output name")
+    write_document(read_document(src), dst)
+    print(f"wrote {dst}")
+    return 0
+
+
+__all__ = ["add_parser", "cmd_export"]
