@@ -14,6 +14,7 @@ import numpy as np
 from PySide6 import QtCore
 
 from ..geo.projection import LocalProjection
+from ..io.payload import GAP_FILL_MARKER
 from ..processing.cleaning_base import planar
 from ..processing.descriptor import ToolDescriptor
 from ..processing import smoothing
@@ -57,7 +58,8 @@ class PreviewController(QtCore.QObject):
         cache = session.preview_cache()
         strengths = self._cached_strengths(params, rows, cache)
         # only the profile draws an uncertainty band; "before" and "plane" are filled in by the worker
-        kwargs_wanted = tool.optional_inputs(before=None, plane=None, want_std="vertical")
+        kwargs_wanted = tool.optional_inputs(before=None, plane=None, want_std="vertical",
+                                             inserted_marker=GAP_FILL_MARKER)
         function = tool.function
 
         def work():

@@ -174,6 +174,7 @@ class ProgressBar:
 def cmd_clean(args) -> int:
     from ..io import read_document
     from ..io.export import write_document
+    from ..io.payload import GAP_FILL_MARKER
     from ..processing.pipeline import clean_document, summary_line
 
     inputs = list(args.inputs)
@@ -194,7 +195,7 @@ def cmd_clean(args) -> int:
             def step(fraction: float, what: str) -> None:
                 bar(0.05 + 0.85 * fraction, what)
 
-            cleaned, report = clean_document(doc, params, progress=step)
+            cleaned, report = clean_document(doc, params, progress=step, inserted_marker=GAP_FILL_MARKER)
             bar(0.92, "writing")
             write_document(cleaned, dst)
             bar(1.0, "done")

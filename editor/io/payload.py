@@ -147,6 +147,11 @@ def mark_inserted(payload, how: str = "gap-fill"):
     return _with_extensions(payload, kept + marker_xml(how))
 
 
+#: The payload of a point the gap filler inserts, handed to it by the editor and the batch command
+#: (processing never builds file content itself).
+GAP_FILL_MARKER = mark_inserted(None, how="gap-fill")
+
+
 def is_inserted(payload) -> bool:
     """True if the point carries the "inserted by a tool" marker."""
     extensions = extensions_of(payload)

@@ -165,7 +165,7 @@ FILL_GAPS = ToolDescriptor(
         "mark_inserted": ControlSpec(label="Mark added points in the file"),
     },
     batch_order=20,
-    accepts=PLANE_AND_TOTALS,
+    accepts=PLANE_AND_TOTALS | {"inserted_marker"},
     batch_adjust=_widen_by_catch_up,
     cli_options=(
         CliOption(

@@ -75,8 +75,7 @@ import numpy as np
 from .cleaning_base import chi2_quantile
 from .gaps import find_gaps
 from .kalman import Problem
-from .scalar_search import bounded_minimum
-from .smoothing import LOG10_Q_RANGE
+from .smoothing import LOG10_Q_RANGE, most_likely
 
 #: A step longer than this many median intervals (and ``min_gap_s``) is a signal-loss gap.
 GAP_FACTOR = 5.0
@@ -125,9 +124,7 @@ def _gaps(t: np.ndarray, starts: np.ndarray, settings: CatchUpSettings) -> list[
 def _fit_q(t, z, r, starts, axis) -> float:
     """Maximum-likelihood q (m^2/s^3) of the context sequences."""
     problem = Problem(t, z, r, starts=starts)
-    hi, lo = LOG10_Q_RANGE[axis]
-    best = bounded_minimum(lambda log_q: -problem.loglik(10.0 ** log_q), lo, hi, LOG10_Q_TOLERANCE)
-    return float(10.0 ** best.x)
+    return most_likely(problem.loglik, LOG10_Q_RANGE[axis], tolerance=LOG10_Q_TOLERANCE)[0]
 
 
 def _blocks(pieces: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:

@@ -19,8 +19,9 @@ from typing import Any, Callable, Mapping
 #: The optional keyword inputs a tool may accept, and what each gives it:
 #: ``plane`` the track already projected to metres (``cleaning_base.planar``), ``before`` the
 #: track's totals before the tool, ``want_std`` whether to compute per-point uncertainty
-#: (False, True, or ``"vertical"`` for the elevation band only).
-OPTIONAL_INPUTS = frozenset({"plane", "before", "want_std"})
+#: (False, True, or ``"vertical"`` for the elevation band only), ``inserted_marker`` the opaque
+#: payload to give points the tool inserts (made by :mod:`editor.io.payload`; ``None``: unmarked).
+OPTIONAL_INPUTS = frozenset({"plane", "before", "want_std", "inserted_marker"})
 
 
 @dataclass(frozen=True)

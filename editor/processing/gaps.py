@@ -36,17 +36,17 @@ unknown travel would be invention. They are left as they are
 (``long_gap="leave"``) or the segment is split there (``"split"``), so that no
 distance is counted across them.
 
-Inserted points carry the "inserted by a tool" marker of
-:func:`editor.io.payload.mark_inserted` (``how="gap-fill"``) unless
-``mark_inserted`` is False. Everything here is an estimate, not a measurement.
+Inserted points carry the payload ``inserted_marker`` the caller passes
+(the editor and the batch command pass :data:`editor.io.payload.GAP_FILL_MARKER`,
+processing never builds file content itself) unless ``mark_inserted`` is False. Everything here is an estimate, not a measurement.
 """
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
-from ..io.payload import mark_inserted
 from ..model.document import Track
 from ..model.points import ALL_COLUMNS, PointTable
 from .activity import Activity
@@ -54,8 +54,7 @@ from .cleaning_base import (PlanarTrack, activity_for, noise_sigma, plane_of, se
                             unchanged_proposal)
 from .kalman import Problem
 from .proposal import Proposal, make_proposal
-from .scalar_search import bounded_minimum
-from .smoothing import LOG10_Q_RANGE
+from .smoothing import LOG10_Q_RANGE, most_likely
 from .stats import StatsParams, Totals
 
 
@@ -117,7 +116,7 @@ def _sigma(given, floor, t, *cols) -> float:
 
 def fill_gaps(track: Track, params: GapParams = GapParams(), *, rows=None, track_index: int = 0,
               stats_params: StatsParams = StatsParams(), plane: PlanarTrack | None = None,
-              before: Totals | None = None) -> Proposal:
+              before: Totals | None = None, inserted_marker: Any = None) -> Proposal:
     """Propose points across signal-loss gaps (see module notes).
 
     ``rows`` (sorted row indices): only gaps between two selected rows are filled or split.
@@ -159,7 +158,7 @@ def fill_gaps(track: Track, params: GapParams = GapParams(), *, rows=None, track
     gap_rows_a = np.array(gap_rows, dtype=np.int64)
     counts = np.array(gap_counts, dtype=np.int64)
     points, source, starts, sigma_h, sigma_v, sigmas = _assemble(track, pt, gap_rows_a, counts, gap_times, windows,
-                                                                 split_rows, params, activity)
+                                                                 split_rows, params, activity, inserted_marker)
     inserted = np.flatnonzero(source < 0)
     segment_extra = None
     if split_rows:
@@ -260,15 +259,15 @@ def _fit_q(problem: Problem, axis: str, fallback: float) -> float:
     so a fill follows the same model the smoother would fit; ``fallback`` if the data say nothing.
     ``problem`` is prepared once; each step of the search is one likelihood pass on it.
     """
-    hi, lo = LOG10_Q_RANGE[axis]
     try:
-        found = bounded_minimum(lambda log_q: -problem.loglik(10.0 ** log_q), lo, hi, 0.02)
+        # a fill needs q to a few per cent only: a coarser tolerance than the smoother's
+        q, loglik = most_likely(problem.loglik, LOG10_Q_RANGE[axis], tolerance=0.02)
     except ValueError:
         return fallback
-    return float(10.0 ** found.x) if np.isfinite(found.fun) else fallback
+    return q if np.isfinite(loglik) else fallback
 
 
-def _assemble(track, pt, gap_rows, counts, gap_times, windows, split_rows, params, activity):
+def _assemble(track, pt, gap_rows, counts, gap_times, windows, split_rows, params, activity, inserted_marker):
     """The proposed point table with the new rows in place, and what goes with it."""
     old = track.points
     n, total_new = len(old), int(counts.sum())
@@ -302,8 +301,8 @@ def _assemble(track, pt, gap_rows, counts, gap_times, windows, split_rows, param
                 columns[key][inserted_at] = None
             else:
                 columns[key][inserted_at] = np.nan
-        if params.mark_inserted:
-            columns["extra"][inserted_at] = mark_inserted(None, how="gap-fill")
+        if params.mark_inserted and inserted_marker is not None:
+            columns["extra"][inserted_at] = inserted_marker
         sigma_h[inserted_at], sigma_v[inserted_at] = sh, sv
     starts = (track.segment_starts + shift[np.minimum(track.segment_starts, n - 1)] if n
               else track.segment_starts.copy())

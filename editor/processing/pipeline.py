@@ -131,13 +131,18 @@ def _scalars(info: Mapping[str, Any]) -> dict:
             if isinstance(v, (bool, int, float, str, np.integer, np.floating)) and not isinstance(v, np.ndarray)}
 
 
-def clean_document(doc: Document, params: CleanParams = CleanParams(),
-                   progress: Callable[[float, str], None] | None = None) -> tuple[Document, CleanReport]:
+def clean_document(doc: Document, params: CleanParams | None = None,
+                   progress: Callable[[float, str], None] | None = None, *,
+                   inserted_marker: Any = None) -> tuple[Document, CleanReport]:
     """Clean every track of ``doc``; return the cleaned copy and a report. ``doc`` is not changed.
+
+    ``inserted_marker``: the payload of points a step inserts (the caller's file format makes it,
+    e.g. :data:`editor.io.payload.GAP_FILL_MARKER`); ``None`` leaves them unmarked.
 
     ``progress(fraction, step_label)`` is called before each step and once at the end (1.0).
     Waypoints, routes, metadata, extensions and every point the steps did not touch are kept.
     """
+    params = params if params is not None else CleanParams()
     out = doc.copy()
     report = CleanReport(before=Totals(), after=Totals())
     plans, planes = [], []
@@ -159,7 +164,8 @@ def clean_document(doc: Document, params: CleanParams = CleanParams(),
                 step_params = tool.batch_adjust(step_params, earlier)
             track = out.tracks[index]
             # the shared plane and the known totals; no posterior standard deviations (the batch keeps none)
-            optional = tool.optional_inputs(plane=plane, before=before, want_std=False)
+            optional = tool.optional_inputs(plane=plane, before=before, want_std=False,
+                                            inserted_marker=inserted_marker)
             proposal = tool.function(track, step_params, track_index=index, stats_params=params.stats_params,
                                      **optional)
             if not proposal.is_noop():

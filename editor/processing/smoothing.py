@@ -230,28 +230,36 @@ def _problems(arrays: _TrackArrays, params: SmoothParams, rows=None):
     return out
 
 
+def most_likely(loglik: Callable[[float], float], bounds: tuple[float, float],
+                tolerance: float = LOG10_Q_TOLERANCE) -> tuple[float, float]:
+    """The maximum-likelihood search every tool uses: maximise ``loglik(v)`` over ``v`` between
+    ``10**bounds[1]`` and ``10**bounds[0]``, searching in log10 v to ``tolerance`` (a bounded Brent
+    search). Returns ``(v, loglik(v))``. The bounds of a process noise q are :data:`LOG10_Q_RANGE`."""
+    hi, lo = bounds
+    best = bounded_minimum(lambda log10_value: -loglik(10.0 ** log10_value), lo, hi, tolerance)
+    return float(10.0 ** best.x), float(-best.fun)
+
+
 def _fit_axis(problem: Problem, axis: str, fixed_q: float | None, estimate_noise: bool,
               tick: Callable[[], None]):
     """Maximum-likelihood q (and r scale); returns ``(q, r_scale, loglik)``."""
-    hi, lo = LOG10_Q_RANGE[axis]
-
-    def negative(log10_value, evaluate):
-        tick()
-        return -evaluate(10.0 ** log10_value)
+    def counted(evaluate: Callable[[float], float]) -> Callable[[float], float]:
+        def wrapped(value: float) -> float:
+            tick()
+            return evaluate(value)
+        return wrapped
 
     if fixed_q is not None and not estimate_noise:
         return fixed_q, 1.0, problem.loglik(fixed_q)
     if fixed_q is not None:
-        best = bounded_minimum(lambda v: negative(v, lambda s: problem.loglik(fixed_q, s)), -4.0, 4.0,
-                               LOG10_Q_TOLERANCE)
-        return fixed_q, 10.0 ** best.x, -best.fun
+        scale, ll = most_likely(counted(lambda s: problem.loglik(fixed_q, s)), (4.0, -4.0))
+        return fixed_q, scale, ll
     if not estimate_noise:
-        best = bounded_minimum(lambda v: negative(v, problem.loglik), lo, hi, LOG10_Q_TOLERANCE)
-        return 10.0 ** best.x, 1.0, -best.fun
-    best = bounded_minimum(lambda v: negative(v, lambda ratio: problem.concentrated(ratio)[0]), lo, hi,
-                           LOG10_Q_TOLERANCE)
-    ll, scale = problem.concentrated(10.0 ** best.x)
-    return 10.0 ** best.x * scale, scale, ll
+        q, ll = most_likely(counted(problem.loglik), LOG10_Q_RANGE[axis])
+        return q, 1.0, ll
+    ratio, _ = most_likely(counted(lambda r: problem.concentrated(r)[0]), LOG10_Q_RANGE[axis])
+    ll, scale = problem.concentrated(ratio)
+    return ratio * scale, scale, ll
 
 
 def _estimate(arrays: _TrackArrays, params: SmoothParams, rows, progress, cancelled,

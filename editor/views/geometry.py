@@ -219,11 +219,3 @@ def take_with_breaks(values: np.ndarray, rows: np.ndarray) -> np.ndarray:
     out[rows == BREAK] = np.nan
     return out
 
-
-def runs_with_breaks(rows: np.ndarray) -> np.ndarray:
-    """Sorted rows with :data:`BREAK` between non-consecutive runs (for drawing a selection)."""
-    rows = np.asarray(rows, dtype=np.int64)
-    if len(rows) < 2:
-        return rows
-    positions = np.flatnonzero(np.diff(rows) > 1) + 1
-    return np.insert(rows, positions, BREAK)

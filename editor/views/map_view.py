@@ -226,6 +226,3 @@ class MapView(LinkedPlot):
             if row is not None and (pos.x(), pos.y()) != (self._xy[0][row], self._xy[1][row]):
                 self.point_dragged.emit(row, float(pos.x()), float(pos.y()))
             self._on_hover(self.state.hover)
-
-    def drag_active(self) -> bool:
-        return self._drag_row is not None

@@ -10,6 +10,7 @@ from editor.io.gpx import read_gpx
 from editor.model import Document
 from editor.processing.catch_up import CatchUpSettings, catch_up_rows
 from editor.processing.cleaning_base import planar
+from editor.io.payload import GAP_FILL_MARKER
 from editor.processing.pipeline import CleanParams, clean_document
 from editor.processing.spikes import SpikeParams, despike
 
@@ -167,7 +168,7 @@ def test_demo_tunnel_catch_up_rows_are_flagged():
 
 def test_demo_tunnel_clean_is_much_closer_to_the_truth():
     doc, truth = tunnel()
-    cleaned, report = clean_document(doc)
+    cleaned, report = clean_document(doc, inserted_marker=GAP_FILL_MARKER)
     raw, done = report.before, report.after
     steps = {s.tool: s for s in report.steps}
     assert steps["despike"].info["catch_up"] >= 10

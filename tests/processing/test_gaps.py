@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 from cleaning_tracks import track_from_xy, xy_of
 
-from editor.io.payload import is_inserted
+from editor.io.payload import GAP_FILL_MARKER, is_inserted
 from editor.processing.gaps import GapParams, fill_gaps, find_gaps, monotone_bridge
 
 
@@ -34,7 +34,7 @@ def test_find_gaps_uses_the_median_interval_and_the_minimum():
 
 def test_a_30_second_gap_is_filled_at_the_nominal_interval_near_the_truth():
     track, (t, tx, ty, te), keep = walk_with_gap()
-    prop = fill_gaps(track, GapParams(activity="walk"))
+    prop = fill_gaps(track, GapParams(activity="walk"), inserted_marker=GAP_FILL_MARKER)
     new = prop.reasons["inserted"]
     assert len(new) == 30 and prop.info["filled"] == 1
     assert prop.reasons["gap"].tolist() == [299]
@@ -97,7 +97,7 @@ def test_long_gap_left_alone_or_split():
 
 def test_marker_can_be_switched_off():
     track, *_ = walk_with_gap()
-    prop = fill_gaps(track, GapParams(activity="walk", mark_inserted=False))
+    prop = fill_gaps(track, GapParams(activity="walk", mark_inserted=False), inserted_marker=GAP_FILL_MARKER)
     assert all(p is None for p in prop.points.extra[prop.reasons["inserted"]])
 
 

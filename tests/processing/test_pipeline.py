@@ -8,7 +8,7 @@ from cleaning_tracks import hill_profile, track_from_xy, wandering_path
 
 from editor.geo.distance import geodesic_steps
 from editor.io.gpx import gpx_bytes, read_gpx_bytes
-from editor.io.payload import is_inserted
+from editor.io.payload import GAP_FILL_MARKER, is_inserted
 from editor.model import Document, PointTable
 from editor.processing.cleaning_base import planar, replan
 from editor.processing.pipeline import CleanParams, clean_document, summary_line
@@ -80,7 +80,8 @@ def test_cleaned_hike_is_much_closer_to_the_truth():
 def test_output_validates_against_the_gpx_11_schema():
     # The GPX 1.1 schema as published (tests/reference/gpx-1.1.xsd), loaded with xmlschema.
     track, _ = invented_hike(seed=22)
-    cleaned, _ = clean_document(Document(tracks=[track]), CleanParams(simplify=SimplifyParams(tolerance_m=2.0)))
+    cleaned, _ = clean_document(Document(tracks=[track]), CleanParams(simplify=SimplifyParams(tolerance_m=2.0)),
+                                inserted_marker=GAP_FILL_MARKER)
     data = gpx_bytes(cleaned)
     xmlschema.XMLSchema(str(SCHEMA)).validate(data)
     again = read_gpx_bytes(data)
