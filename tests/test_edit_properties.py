@@ -21,6 +21,7 @@ from editor.processing.simplify import SimplifyParams
 from editor.processing.smoothing import SmoothParams
 from editor.processing.spikes import SpikeParams
 from editor.processing.stops import StopParams
+from editor.io.payload import GAP_FILL_MARKER
 from editor.processing.tools import TOOLS
 
 from processing.cleaning_tracks import ORIGIN, T0
@@ -105,7 +106,9 @@ def test_random_tools_and_edits_undo_to_the_exact_original(seed, n, segments, st
             if use_selection and m > 4:
                 lo = s % (m // 2)
                 rows = np.arange(lo, min(m, lo + m // 2))
-            proposal = TOOLS[name].function(current, PARAMS[name](s), rows=rows, track_index=0)
+            tool = TOOLS[name]  # the gap filler marks the points it inserts with the payload it is given
+            proposal = tool.function(current, PARAMS[name](s), rows=rows, track_index=0,
+                                     **tool.optional_inputs(inserted_marker=GAP_FILL_MARKER))
             check_proposal(current, proposal, rows)
             if proposal.is_noop():
                 continue

@@ -33,6 +33,12 @@ def create_application(argv: list[str] | None = None):
 
 def run_editor(files: list[str]) -> int:
     """Open one window per file (the demo ride when ``files`` is empty) and run until they close."""
+    from .platform_check import xcb_problem
+
+    problem = xcb_problem()
+    if problem is not None:  # Qt would abort with a page of plugin messages: say what to install
+        print(problem, file=sys.stderr)
+        return 2
     app = create_application()
     from ..bundled import demo_ride
     from .recovery_keeper import offer_recovery

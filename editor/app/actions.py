@@ -49,8 +49,8 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     a["redo"].setIcon(icon("redo"))
     for name in ("undo", "redo"):
         w.addAction(a[name])
-    a["delete"] = _action(w, "&Delete selected points", w.editing.delete_selection, [Key.StandardKey.Delete, "Backspace"],
-                          "delete")
+    a["delete"] = _action(w, "&Delete selected points", w.editing.delete_selection,
+                          [Key.StandardKey.Delete, "Backspace"], "delete")
     a["trim_before"] = _action(w, "Trim &before selection", w.editing.trim_before, "Ctrl+Shift+B", "trim_before",
                                "Delete every point before the selection")
     a["trim_after"] = _action(w, "Trim &after selection", w.editing.trim_after, "Ctrl+Shift+E", "trim_after",
@@ -59,15 +59,16 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
                          "Start a new segment at the first selected point")
     a["merge"] = _action(w, "&Join with next segment", w.editing.merge_segments, "Ctrl+Shift+J", "merge",
                          "Join the selected point's segment with the next one")
-    a["insert"] = _action(w, "&Insert point after selection", w.editing.insert_point, ["Insert", "Ctrl+Shift+I"], "insert",
-                          "Add a point halfway to the next point")
+    a["insert"] = _action(w, "&Insert point after selection", w.editing.insert_point, ["Insert", "Ctrl+Shift+I"],
+                          "insert", "Add a point halfway to the next point")
     a["sort_time"] = _action(w, "Sort points by &time", w.editing.sort_by_time, None, None,
                              "Put each segment's points in time order")
     a["select_all"] = _action(w, "Select &all points", w.editing.select_all, Key.StandardKey.SelectAll)
     a["select_none"] = _action(w, "Select &none", w.editing.clear_selection, "Ctrl+Shift+A")
     a["next"] = _action(w, "Select next point", lambda: w.editing.step_selection(+1), "Ctrl+Right")
     a["previous"] = _action(w, "Select previous point", lambda: w.editing.step_selection(-1), "Ctrl+Left")
-    a["grow_next"] = _action(w, "Extend selection forward", lambda: w.editing.step_selection(+1, True), "Ctrl+Shift+Right")
+    a["grow_next"] = _action(w, "Extend selection forward", lambda: w.editing.step_selection(+1, True),
+                             "Ctrl+Shift+Right")
     a["grow_previous"] = _action(w, "Extend selection backward", lambda: w.editing.step_selection(-1, True),
                                  "Ctrl+Shift+Left")
 

@@ -51,7 +51,8 @@ class EditController:
         return self.push_edit(edit, label)
 
     def move_point(self, row: int, x_m: float, y_m: float) -> None:
-        self._hand_edit(lambda t: hand_edits.move_point(t, self.session.state.track, row, x_m, y_m, self.window.projection),
+        projection = self.window.projection
+        self._hand_edit(lambda t: hand_edits.move_point(t, self.session.state.track, row, x_m, y_m, projection),
                         f"Move point {row + 1:,}")
 
     def set_point_elevation(self, row: int, ele_m: float) -> None:
@@ -101,7 +102,8 @@ class EditController:
         after = int(sel[-1]) if len(sel) else None
         if after is not None:
             self.session.pending_selection = [after + 1]  # the new point, once the views are rebuilt
-        if not self._hand_edit(lambda t: hand_edits.insert_point_after(t, self.session.state.track, sel, self.window.projection),
+        projection = self.window.projection
+        if not self._hand_edit(lambda t: hand_edits.insert_point_after(t, self.session.state.track, sel, projection),
                                "Insert point"):
             self.session.pending_selection = None
 

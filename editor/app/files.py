@@ -12,7 +12,7 @@ from ..io.errors import TrackFileError
 from ..io.export import write_document
 from ..io.gpx import write_gpx
 from .. import CAUTION, __version__
-from .session import CLEANED_SUFFIX, Session
+from .session import Session
 
 if TYPE_CHECKING:
     from .window import MainWindow

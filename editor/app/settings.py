@@ -1,25 +1,43 @@
 """What the window remembers between runs (units, time offset, recent files, layout), via QSettings.
 
 The window receives an :class:`AppSettings` object, so tests hand it one backed
-by a temporary INI file and never touch the user's settings.
+by a temporary INI file and never touch the user's settings. The user's own
+settings are an INI file in the platform's per-user configuration folder and the
+crash-recovery journals go to its per-user data folder (both from ``platformdirs``).
 """
 from __future__ import annotations
 
 from pathlib import Path
 
+import platformdirs
 from PySide6 import QtCore
 
 from ..units import UNIT_SYSTEMS, UnitSystem
 
 #: How many recent files the File menu lists.
 RECENT_LIMIT = 8
+#: The folder name under the platform's per-user folders.
+APP_DIR_NAME = "trackwright"
+
+
+def user_settings_path() -> Path:
+    """The user's settings file, e.g. ``~/.config/trackwright/settings.ini`` on Linux."""
+    return Path(platformdirs.user_config_dir(APP_DIR_NAME, appauthor=False)) / "settings.ini"
+
+
+def user_recovery_dir() -> Path:
+    """Where crash-recovery journals go, e.g. ``~/.local/share/trackwright/recovery`` on Linux."""
+    return Path(platformdirs.user_data_dir(APP_DIR_NAME, appauthor=False)) / "recovery"
 
 
 class AppSettings:
     """Typed access to a :class:`QtCore.QSettings` store."""
 
     def __init__(self, store: QtCore.QSettings | None = None) -> None:
-        self.store = store if store is not None else QtCore.QSettings("Trackwright", "Trackwright")
+        if store is None:
+            store = QtCore.QSettings(str(user_settings_path()), QtCore.QSettings.Format.IniFormat)
+        self.store = store
+        self._beside_store = store.fileName() != str(user_settings_path())
 
     @classmethod
     def at_path(cls, path: str | Path) -> "AppSettings":
@@ -82,14 +100,14 @@ class AppSettings:
 
     @property
     def recovery_dir(self) -> Path:
-        """Folder for crash-recovery journals: beside an INI store, else the per-user data folder."""
+        """Folder for crash-recovery journals: beside a settings file of its own (tests, portable use),
+        else the platform's per-user data folder."""
         configured = self.store.value("recovery/dir", "")
         if configured:
             return Path(str(configured))
-        if self.store.format() == QtCore.QSettings.Format.IniFormat:
+        if self._beside_store and self.store.format() == QtCore.QSettings.Format.IniFormat:
             return Path(self.store.fileName()).with_name("recovery")
-        base = QtCore.QStandardPaths.writableLocation(QtCore.QStandardPaths.StandardLocation.AppDataLocation)
-        return Path(base or Path.home() / ".trackwright") / "recovery"
+        return user_recovery_dir()
 
     def value(self, key: str, default=None):
         return self.store.value(key, default)

@@ -23,9 +23,14 @@ from __future__ import annotations
 import argparse
 import sys
 from pathlib import Path
+from typing import TYPE_CHECKING, Any, Callable, TextIO
 
 from ..io.errors import TrackFileError
 from ..io.save import same_file
+
+if TYPE_CHECKING:
+    from ..processing.descriptor import CliOption, ToolDescriptor
+    from ..processing.pipeline import CleanParams
 from .. import CAUTION
 
 #: Suffix added to an input's name for its cleaned copy in ``-d`` mode.
@@ -35,9 +40,9 @@ OUTPUT_TYPES = (".gpx", ".geojson", ".json", ".csv")
 BAR_WIDTH = 24
 
 
-def _argument_type(parse):
+def _argument_type(parse: Callable[[str], Any]) -> Callable[[str], Any]:
     """An argparse ``type`` from a descriptor option's ``parse`` (its ValueError becomes the message)."""
-    def convert(text: str):
+    def convert(text: str) -> Any:
         try:
             return parse(text)
         except ValueError as err:
@@ -47,7 +52,7 @@ def _argument_type(parse):
     return convert
 
 
-def _option_dest(tool, option) -> str:
+def _option_dest(tool: ToolDescriptor, option: CliOption) -> str:
     return f"tool_{tool.key}_{option.flag.lstrip('-').replace('-', '_')}"
 
 
@@ -73,7 +78,7 @@ def add_tool_options(p: argparse.ArgumentParser) -> None:
                                default=None, metavar=option.metavar, help=text)
 
 
-def add_parser(subparsers) -> argparse.ArgumentParser:
+def add_parser(subparsers: Any) -> argparse.ArgumentParser:
     """Register the ``clean`` subcommand."""
     from ..processing.activity import ACTIVITIES, AUTO
     from ..processing.tools import batch_tools
@@ -98,7 +103,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     return p
 
 
-def clean_params(args: argparse.Namespace):
+def clean_params(args: argparse.Namespace) -> CleanParams:
     """The :class:`CleanParams` the command line asks for."""
     from dataclasses import replace
 
@@ -106,7 +111,7 @@ def clean_params(args: argparse.Namespace):
     from ..processing.pipeline import CleanParams
     from ..processing.tools import batch_tools
 
-    steps = {}
+    steps: dict[str, Any] = {}
     for tool in batch_tools():
         switch = getattr(args, f"tool_{tool.key}", None) if tool.cli_switch else None
         on = tool.batch_default if switch is None else switch
@@ -131,7 +136,8 @@ def plan_outputs(inputs: list[Path], output: Path | None, output_dir: Path | Non
             raise TrackFileError(output, f"-o takes exactly one input ({len(inputs)} given); use -d DIR for several")
         outputs = [output]
     else:
-        outputs = [output_dir / f"{p.stem}{OUTPUT_SUFFIX}.gpx" for p in inputs]
+        folder = output_dir if output_dir is not None else Path.cwd()
+        outputs = [folder / f"{p.stem}{OUTPUT_SUFFIX}.gpx" for p in inputs]
         seen: dict[Path, Path] = {}
         for src, dst in zip(inputs, outputs):
             if dst in seen:
@@ -152,7 +158,7 @@ def plan_outputs(inputs: list[Path], output: Path | None, output_dir: Path | Non
 class ProgressBar:
     """A one-line text bar on a terminal's stderr; silent elsewhere."""
 
-    def __init__(self, stream, name: str):
+    def __init__(self, stream: TextIO, name: str) -> None:
         self.stream = stream
         self.enabled = bool(getattr(stream, "isatty", lambda: False)())
         self.name = name if len(name) <= 28 else "..." + name[-25:]
@@ -171,7 +177,7 @@ class ProgressBar:
             self.stream.flush()
 
 
-def cmd_clean(args) -> int:
+def cmd_clean(args: argparse.Namespace) -> int:
     from ..io import read_document
     from ..io.export import write_document
     from ..io.payload import GAP_FILL_MARKER

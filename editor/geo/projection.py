@@ -11,6 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
+from numpy.typing import ArrayLike
 from pyproj import CRS, Transformer
 
 
@@ -35,7 +36,7 @@ class LocalProjection:
         self._inverse = Transformer.from_crs(crs, crs.geodetic_crs, always_xy=True)
 
     @classmethod
-    def centred_on(cls, lat, lon) -> "LocalProjection":
+    def centred_on(cls, lat: ArrayLike, lon: ArrayLike) -> "LocalProjection":
         """Centre on the data: mean latitude, circular mean longitude (NaNs ignored)."""
         lat = np.asarray(lat, dtype=np.float64)
         lon = np.asarray(lon, dtype=np.float64)
@@ -44,12 +45,12 @@ class LocalProjection:
         lat0 = float(np.clip(np.nanmean(lat), -89.999, 89.999))
         return cls(round(lat0, 6), round(_circular_mean_deg(lon), 6))
 
-    def to_xy(self, lat, lon) -> tuple[np.ndarray, np.ndarray]:
+    def to_xy(self, lat: ArrayLike, lon: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
         """Geographic degrees to planar metres."""
         x, y = self._forward.transform(np.asarray(lon, dtype=np.float64), np.asarray(lat, dtype=np.float64))
         return np.asarray(x, dtype=np.float64), np.asarray(y, dtype=np.float64)
 
-    def to_latlon(self, x, y) -> tuple[np.ndarray, np.ndarray]:
+    def to_latlon(self, x: ArrayLike, y: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
         """Planar metres back to geographic degrees (longitude in [-180, 180))."""
         lon, lat = self._inverse.transform(np.asarray(x, dtype=np.float64), np.asarray(y, dtype=np.float64))
         lon = (np.asarray(lon, dtype=np.float64) + 180.0) % 360.0 - 180.0

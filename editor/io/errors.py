@@ -1,6 +1,8 @@
 """The one error type for unreadable or unwritable track files."""
 from __future__ import annotations
 
+import os
+
 
 class TrackFileError(Exception):
     """A track file could not be read or written.
@@ -14,7 +16,7 @@ class TrackFileError(Exception):
     ``str(error)`` is one line: ``"FILE, line N: problem"``.
     """
 
-    def __init__(self, path, problem: str, line: int | None = None):
+    def __init__(self, path: str | os.PathLike | None, problem: str, line: int | None = None) -> None:
         self.path = None if path is None else str(path)
         self.line = line
         self.problem = problem

@@ -28,6 +28,7 @@ Exports keep only what the model interprets; GPX is the lossless format.
 from __future__ import annotations
 
 import csv
+import os
 import io
 import json
 from pathlib import Path
@@ -60,7 +61,7 @@ def _positions(table: PointTable, with_ele: bool) -> list:
     return [list(p) for p in zip(*(c.tolist() for c in columns))]
 
 
-def _line_features(table: PointTable, runs: list[tuple[int, int]]):
+def _line_features(table: PointTable, runs: list[tuple[int, int]]) -> tuple[list, list, list | None, list[int]]:
     """Lines (of >= 2 points), their times, elevation property and the indexes of the runs used."""
     drawn = [i for i, (a, b) in enumerate(runs) if b - a >= 2]
     parts = [table.take(slice(*runs[i])) for i in drawn]
@@ -135,7 +136,7 @@ def _blank(values: np.ndarray) -> list:
 _FORMATS = {".gpx": gpx_bytes, ".geojson": geojson_bytes, ".json": geojson_bytes, ".csv": csv_bytes}
 
 
-def write_document(doc: Document, path, *, backup: bool | None = None) -> None:
+def write_document(doc: Document, path: str | os.PathLike, *, backup: bool | None = None) -> None:
     """Save ``doc`` in the format named by the extension of ``path``, atomically.
 
     ``.gpx``: GPX 1.1; ``.geojson`` or ``.json``: GeoJSON; ``.csv``: CSV.

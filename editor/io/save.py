@@ -38,7 +38,7 @@ def _describe(error: OSError) -> str:
     return error.strerror or str(error) or type(error).__name__
 
 
-def _write_all(fd: int, data) -> None:
+def _write_all(fd: int, data: bytes | Iterable[bytes]) -> None:
     for piece in [data] if isinstance(data, (bytes, bytearray, memoryview)) else data:
         view = memoryview(piece)
         while view:
@@ -56,7 +56,7 @@ def _create_temp(folder: Path, name: str) -> tuple[int, Path]:
             continue
 
 
-def backup_names(path) -> list[Path]:
+def backup_names(path: str | os.PathLike) -> list[Path]:
     """Existing backups of ``path``, oldest first (``NAME.bak``, ``NAME.bak.1``, ...)."""
     path = Path(path)
     found = []
@@ -102,7 +102,7 @@ def _sync_folder(folder: Path) -> None:
         os.close(fd)
 
 
-def atomic_write(path, data: bytes | Iterable[bytes], backup: bool = False) -> Path | None:
+def atomic_write(path: str | os.PathLike, data: bytes | Iterable[bytes], backup: bool = False) -> Path | None:
     """Replace the file at ``path`` with ``data`` atomically.
 
     Parameters
@@ -165,7 +165,7 @@ def _remove_quietly(path: Path | None) -> None:
             pass
 
 
-def same_file(a, b) -> bool:
+def same_file(a: str | os.PathLike | None, b: str | os.PathLike | None) -> bool:
     """Do ``a`` and ``b`` name one file: the same path once resolved, or one existing file under two
     names (a link)? Either may be ``None`` (never the same). The one check used before any write."""
     if a is None or b is None:
@@ -176,7 +176,7 @@ def same_file(a, b) -> bool:
         return False
 
 
-def leftover_temp_files(path) -> list[Path]:
+def leftover_temp_files(path: str | os.PathLike) -> list[Path]:
     """Temporary files an interrupted save of ``path`` left behind."""
     target = Path(os.path.realpath(path))
     return sorted(target.parent.glob(f".{target.name}.*.tmp"))

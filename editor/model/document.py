@@ -16,6 +16,7 @@ from dataclasses import dataclass, field
 from typing import Any, Callable
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .points import PointTable
 
@@ -77,7 +78,7 @@ class Track:
         stops = np.append(self.segment_starts[1:], len(self.points))
         return list(zip(self.segment_starts.tolist(), stops.tolist()))
 
-    def segment_of(self, rows) -> np.ndarray:
+    def segment_of(self, rows: ArrayLike) -> np.ndarray:
         """Segment number of each row."""
         return np.searchsorted(self.segment_starts, np.asarray(rows), side="right") - 1
 

@@ -8,6 +8,7 @@ indices of the track's point table.
 from __future__ import annotations
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ..geo.projection import LocalProjection
 from .document import Track
@@ -19,7 +20,7 @@ class HandEditError(ValueError):
     """The action does not apply to the current selection; the message says why."""
 
 
-def _checked_rows(track: Track, rows) -> np.ndarray:
+def _checked_rows(track: Track, rows: ArrayLike) -> np.ndarray:
     rows = np.unique(np.asarray(rows, dtype=np.int64))
     rows = rows[(rows >= 0) & (rows < len(track.points))]
     if not len(rows):
@@ -39,12 +40,12 @@ def set_elevation(track_index: int, row: int, ele_m: float) -> SetValues:
     return SetValues(track_index, np.array([row], dtype=np.int64), {"ele": np.array([ele_m])})
 
 
-def delete_points(track: Track, track_index: int, rows) -> DeletePoints:
+def delete_points(track: Track, track_index: int, rows: ArrayLike) -> DeletePoints:
     """Delete the selected rows."""
     return DeletePoints(track_index, _checked_rows(track, rows))
 
 
-def trim_before(track: Track, track_index: int, rows) -> DeletePoints:
+def trim_before(track: Track, track_index: int, rows: ArrayLike) -> DeletePoints:
     """Delete every point of the track before the first selected one."""
     first = int(_checked_rows(track, rows)[0])
     if first == 0:
@@ -52,7 +53,7 @@ def trim_before(track: Track, track_index: int, rows) -> DeletePoints:
     return DeletePoints(track_index, np.arange(first, dtype=np.int64))
 
 
-def trim_after(track: Track, track_index: int, rows) -> DeletePoints:
+def trim_after(track: Track, track_index: int, rows: ArrayLike) -> DeletePoints:
     """Delete every point of the track after the last selected one."""
     last = int(_checked_rows(track, rows)[-1])
     if last == len(track.points) - 1:
@@ -60,7 +61,7 @@ def trim_after(track: Track, track_index: int, rows) -> DeletePoints:
     return DeletePoints(track_index, np.arange(last + 1, len(track.points), dtype=np.int64))
 
 
-def split_segment(track: Track, track_index: int, rows) -> SplitSegment:
+def split_segment(track: Track, track_index: int, rows: ArrayLike) -> SplitSegment:
     """Start a new segment at the first selected point."""
     row = int(_checked_rows(track, rows)[0])
     seg = int(track.segment_of(row))
@@ -69,7 +70,7 @@ def split_segment(track: Track, track_index: int, rows) -> SplitSegment:
     return SplitSegment(track_index, row)
 
 
-def merge_segments(track: Track, track_index: int, rows) -> MergeSegments:
+def merge_segments(track: Track, track_index: int, rows: ArrayLike) -> MergeSegments:
     """Join the segment of the first selected point with the next segment.
 
     When the selection spans a boundary, the first boundary inside it is removed.
@@ -81,7 +82,7 @@ def merge_segments(track: Track, track_index: int, rows) -> MergeSegments:
     return MergeSegments(track_index, first)
 
 
-def insert_point_after(track: Track, track_index: int, rows, projection: LocalProjection) -> InsertPoints:
+def insert_point_after(track: Track, track_index: int, rows: ArrayLike, projection: LocalProjection) -> InsertPoints:
     """Insert a point halfway between the last selected point and the next point of its segment.
 
     The new point lies at the planar midpoint (in ``projection``), with the mean

@@ -17,7 +17,8 @@ from .smoothing import SmoothParams, smooth
 from .spikes import SpikeParams, despike
 from .stops import StopParams, collapse_stops
 
-STRENGTH = dict(minimum=0, maximum=100, step=1, decimals=0, suffix="", slider=True, auto_text="auto")
+#: The strength sliders, 0..100.
+STRENGTH: dict[str, Any] = dict(minimum=0, maximum=100, step=1, decimals=0, suffix="", slider=True, auto_text="auto")
 #: Every tool that works in metres and reports totals can reuse the shared plane and the totals before it.
 PLANE_AND_TOTALS = frozenset({"plane", "before"})
 

@@ -36,9 +36,10 @@ unknown travel would be invention. They are left as they are
 (``long_gap="leave"``) or the segment is split there (``"split"``), so that no
 distance is counted across them.
 
-Inserted points carry the payload ``inserted_marker`` the caller passes
-(the editor and the batch command pass :data:`editor.io.payload.GAP_FILL_MARKER`,
-processing never builds file content itself) unless ``mark_inserted`` is False. Everything here is an estimate, not a measurement.
+Inserted points carry the payload ``inserted_marker`` the caller passes (the
+editor and the batch command pass :data:`editor.io.payload.GAP_FILL_MARKER`;
+processing never builds file content itself) unless ``mark_inserted`` is False.
+Everything here is an estimate, not a measurement.
 """
 from __future__ import annotations
 

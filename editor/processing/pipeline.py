@@ -170,7 +170,7 @@ def clean_document(doc: Document, params: CleanParams | None = None,
                                      **optional)
             if not proposal.is_noop():
                 proposal.edit().apply(out)
-                if number + 1 < len(steps):
+                if plane is not None and number + 1 < len(steps):
                     plane = replan(plane, out.tracks[index], proposal.source_rows, proposal.changed)
             before = proposal.after
             info = _scalars(proposal.info)
@@ -182,9 +182,10 @@ def clean_document(doc: Document, params: CleanParams | None = None,
             done += 1
     # every step's proposal already carries the totals before and after it: reuse them per track
     for index, track in enumerate(out.tracks):
-        steps = [s for s in report.steps if s.track == index]
-        if steps:
-            report.before, report.after = report.before + steps[0].before, report.after + steps[-1].after
+        done_steps = [s for s in report.steps if s.track == index]
+        if done_steps:
+            report.before = report.before + done_steps[0].before
+            report.after = report.after + done_steps[-1].after
         else:
             totals = track_totals(track, params.stats_params)
             report.before, report.after = report.before + totals, report.after + totals

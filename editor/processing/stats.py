@@ -137,7 +137,8 @@ def climb(elevation: np.ndarray, threshold_m: float) -> tuple[float, float]:
     return ascent, descent
 
 
-def _range_totals(lat, lon, ele, t, params: StatsParams, segments: int) -> Totals:
+def _range_totals(lat: np.ndarray, lon: np.ndarray, ele: np.ndarray, t: np.ndarray, params: StatsParams,
+                  segments: int) -> Totals:
     n = len(lat)
     if n == 0:
         return Totals(segments=segments)

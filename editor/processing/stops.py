@@ -163,8 +163,9 @@ def collapse_stops(track: Track, params: StopParams = StopParams(), *, rows=None
             collapsed[rows_] = True
             stop_count += 1
             stopped_s += float(t[last] - t[first])
-    proposal = values_proposal("collapse_stops", "Collapse stops", track_index, track, {"lat": lat, "lon": lon, "ele": ele},
-                               stats_params, before, reasons={"stop": np.flatnonzero(collapsed)},
+    proposal = values_proposal("collapse_stops", "Collapse stops", track_index, track,
+                               {"lat": lat, "lon": lon, "ele": ele}, stats_params, before,
+                               reasons={"stop": np.flatnonzero(collapsed)},
                                info={"activity": activity.name, "stop_speed_mps": threshold})
     proposal.info.update(stops=stop_count, stopped_s=stopped_s,
                          distance_removed_m=proposal.before.distance_m - proposal.after.distance_m)

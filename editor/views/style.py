@@ -1,4 +1,4 @@
-"""The look: palette, style sheet and icons from the top-level ``resources/`` folder."""
+"""The look: palette, style sheet and icons from the ``resources`` folder (installed or in the checkout)."""
 from __future__ import annotations
 
 import json
@@ -8,8 +8,10 @@ from pathlib import Path
 
 from PySide6 import QtGui, QtWidgets
 
-# The top-level resources/ folder of the checkout (the program runs from an editable install).
-RESOURCES = Path(__file__).resolve().parents[2] / "resources"
+from ..bundled import folder
+
+#: The palette, style sheet and icons: inside the installed package, or the checkout's resources/.
+RESOURCES = folder("resources")
 
 
 @dataclass(frozen=True)

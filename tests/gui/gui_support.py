@@ -11,7 +11,7 @@ from editor.model import Document, PointTable, Track
 ROOT = Path(__file__).resolve().parents[2]
 DEMO_RIDE = ROOT / "demo_tracks" / "demo_ride.gpx"
 #: The GPX 1.1 XML Schema published with the standard (Topografix), vendored in tests/reference/.
-from shared_files import GPX_XSD  # noqa: E402
+from shared_files import GPX_XSD  # noqa: E402, F401  (the window tests import it from here)
 
 
 def synthetic_ride(n: int = 2000, seed: int = 7, segments: int = 2) -> Document:

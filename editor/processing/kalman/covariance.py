@@ -84,7 +84,6 @@ class FilterPass:
 
 def filter_pass(knots: Knots, r: np.ndarray, q: float, q_form: str, chol: np.ndarray) -> FilterPass:
     """Read the forward Kalman filter off the factor ``chol`` of ``M(q)`` (see module notes)."""
-    m = len(knots.t)
     local, size, h = knots.local, knots.size, knots.h
     qpp, qpv, qvv = (q * e for e in unit_process_noise(h, q_form))
     h_prev = shift_prev(h)
