@@ -19,6 +19,13 @@ from .stops import StopParams, collapse_stops
 
 #: The strength sliders, 0..100.
 STRENGTH: dict[str, Any] = dict(minimum=0, maximum=100, step=1, decimals=0, suffix="", slider=True, auto_text="auto")
+#: The measurement scatter fields of the tools that estimate it from the track unless told.
+SCATTER = {
+    "horizontal_sigma_m": ControlSpec(label="Position scatter σ", maximum=100, step=0.5, decimals=1,
+                                      auto_text="estimate"),
+    "vertical_sigma_m": ControlSpec(label="Elevation scatter σ", maximum=100, step=0.5, decimals=1,
+                                    auto_text="estimate"),
+}
 #: Every tool that works in metres and reports totals can reuse the shared plane and the totals before it.
 PLANE_AND_TOTALS = frozenset({"plane", "before"})
 
@@ -113,12 +120,7 @@ DESPIKE = ToolDescriptor(
     params=SpikeParams,
     fields={
         "confidence": ControlSpec(label="Gate confidence", minimum=0.9, maximum=0.999999, step=0.0005, decimals=6),
-        "horizontal_sigma_m": ControlSpec(
-            label="Position scatter σ", maximum=100, step=0.5, decimals=1, auto_text="estimate"
-        ),
-        "vertical_sigma_m": ControlSpec(
-            label="Elevation scatter σ", maximum=100, step=0.5, decimals=1, auto_text="estimate"
-        ),
+        **SCATTER,
         "min_horizontal_sigma_m": ControlSpec(label="Least position σ", maximum=50, step=0.5, decimals=1),
         "min_vertical_sigma_m": ControlSpec(label="Least elevation σ", maximum=50, step=0.5, decimals=1),
         "check_elevation": ControlSpec(label="Check elevations"),
@@ -156,12 +158,7 @@ FILL_GAPS = ToolDescriptor(
         "long_gap": ControlSpec(
             label="Longer gaps", choices=(("leave", "leave as they are"), ("split", "split the segment"))
         ),
-        "horizontal_sigma_m": ControlSpec(
-            label="Position scatter σ", maximum=100, step=0.5, decimals=1, auto_text="estimate"
-        ),
-        "vertical_sigma_m": ControlSpec(
-            label="Elevation scatter σ", maximum=100, step=0.5, decimals=1, auto_text="estimate"
-        ),
+        **SCATTER,
         "context_s": ControlSpec(label="Context each side", minimum=5, maximum=3600, step=5, decimals=0),
         "mark_inserted": ControlSpec(label="Mark added points in the file"),
     },
