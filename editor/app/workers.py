@@ -15,16 +15,9 @@ from typing import Any, Callable
 
 from PySide6 import QtCore
 
-from ..model.document import Track
 
 #: Debounce interval for control changes, milliseconds.
 DEBOUNCE_MS = 150
-
-
-def snapshot_track(track: Track) -> Track:
-    """A deep copy of ``track`` that later edits cannot reach."""
-    return Track(points=track.points.copy(), segment_starts=track.segment_starts.copy(), name=track.name,
-                 extra=track.extra, segment_extra=list(track.segment_extra))
 
 
 class _Relay(QtCore.QObject):
