@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 from statistics import NormalDist
 
 import numpy as np
@@ -126,11 +127,11 @@ def activity_for(track: PlanarTrack, name: str | Activity) -> Activity:
         return resolve_activity(name)
     speeds = [window_speed(track.t_s[a:b], track.x[a:b], track.y[a:b], INFER_WINDOW_S)
               for a, b in timed_segments(track)]
-    speeds = np.concatenate(speeds) if speeds else np.zeros(0)
-    return resolve_activity(name, float(np.percentile(speeds, 99)) if len(speeds) else None)
+    joined = np.concatenate(speeds) if speeds else np.zeros(0)
+    return resolve_activity(name, float(np.percentile(joined, 99)) if len(joined) else None)
 
 
-def selection_mask(n: int, rows) -> np.ndarray:
+def selection_mask(n: int, rows: np.ndarray | None) -> np.ndarray:
     """Boolean mask of the rows a tool may change (all of them when ``rows`` is ``None``)."""
     if rows is None:
         return np.ones(n, dtype=bool)
@@ -207,7 +208,7 @@ def noise_sigma(t_s: np.ndarray, *columns: np.ndarray) -> float:
 
 
 def unchanged_proposal(tool: str, label: str, track_index: int, track: Track, stats_params: StatsParams,
-                       before: Totals | None = None, **kwargs) -> Proposal:
+                       before: Totals | None = None, **kwargs: Any) -> Proposal:
     """The "nothing to do" proposal: what :func:`make_proposal` would build, with the totals computed once.
 
     ``before``: the totals of ``track`` with ``stats_params`` when the caller already has them.
@@ -221,7 +222,7 @@ def unchanged_proposal(tool: str, label: str, track_index: int, track: Track, st
 
 
 def keep_proposal(tool: str, label: str, track_index: int, track: Track, keep: np.ndarray,
-                  stats_params: StatsParams, before: Totals | None = None, **kwargs) -> Proposal:
+                  stats_params: StatsParams, before: Totals | None = None, **kwargs: Any) -> Proposal:
     """A proposal that only drops rows (``keep`` False); segment boundaries follow the kept rows.
 
     ``before``: the totals of ``track`` when already known (see :func:`unchanged_proposal`).
@@ -240,7 +241,7 @@ def _same(a: np.ndarray, b: np.ndarray) -> bool:
 
 
 def values_proposal(tool: str, label: str, track_index: int, track: Track, columns: dict[str, np.ndarray],
-                    stats_params: StatsParams, before: Totals | None = None, **kwargs) -> Proposal:
+                    stats_params: StatsParams, before: Totals | None = None, **kwargs: Any) -> Proposal:
     """A proposal that keeps every row and overwrites some columns (``before`` as in :func:`keep_proposal`)."""
     if all(_same(getattr(track.points, key), values) for key, values in columns.items()):
         return unchanged_proposal(tool, label, track_index, track, stats_params, before, **kwargs)

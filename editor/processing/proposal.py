@@ -73,7 +73,9 @@ class Proposal:
 
     def edit(self) -> ReplaceTrackPoints:
         """The reversible edit that applies this proposal to the document."""
-        return ReplaceTrackPoints(self.track, self.points, self.segment_starts, self.segment_extra)
+        # segment_extra None keeps the segments' payloads (ReplaceTrackPoints' own default)
+        return ReplaceTrackPoints(self.track, self.points, self.segment_starts,
+                                  self.segment_extra)  # type: ignore[arg-type]
 
 
 def make_proposal(tool: str, label: str, track_index: int, original: Track, points: PointTable,

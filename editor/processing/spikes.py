@@ -56,6 +56,7 @@ lasts longer than ``OPEN_ZONE_TRUST * trust_s``, is left alone and counted in
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -181,6 +182,7 @@ def gate_outliers(t_s: np.ndarray, z: np.ndarray, r: float, q: float, threshold:
         with np.errstate(invalid="ignore"):
             forward = np.nansum(nu * nu / s, axis=1)
         smooth = rts_smooth(tw, zw, r, q, want_std=True, starts=starts)
+        assert smooth.position_std is not None  # asked for with want_std
         resid = z[rows] - smooth.position.reshape(zw.shape)
         var = smooth.position_std.reshape(zw.shape) ** 2 + r
         with np.errstate(invalid="ignore"):
@@ -193,7 +195,8 @@ def gate_outliers(t_s: np.ndarray, z: np.ndarray, r: float, q: float, threshold:
     return flag
 
 
-def _zone_chain(t, x, y, nodes, has_a, has_b, v_ref, activity, allowance):
+def _zone_chain(t: np.ndarray, x: np.ndarray, y: np.ndarray, nodes: np.ndarray, has_a: bool, has_b: bool,
+                v_ref: float, activity: Activity, allowance: float) -> np.ndarray | None:
     """Longest travellable chain through ``nodes`` (rows), from the first if ``has_a``, to the last if ``has_b``.
 
     Returns the boolean "on the chain" over ``nodes``, or ``None`` when no chain joins the ends.
@@ -226,7 +229,8 @@ def _zone_chain(t, x, y, nodes, has_a, has_b, v_ref, activity, allowance):
     return on
 
 
-def _reference_speed(t, x, y, lo, hi, has_a, has_b) -> float:
+def _reference_speed(t: np.ndarray, x: np.ndarray, y: np.ndarray, lo: int, hi: int, has_a: bool,
+                     has_b: bool) -> float:
     """Median windowed speed (m/s) of the trusted track within REFERENCE_S before ``lo`` / after ``hi``."""
     refs = []
     if has_a:
@@ -280,7 +284,8 @@ def speed_outliers(pt: PlanarTrack, activity: Activity, sigma_h: float, params: 
     return flag, unresolved
 
 
-def despike(track: Track, params: SpikeParams = SpikeParams(), *, rows=None, track_index: int = 0,
+def despike(track: Track, params: SpikeParams = SpikeParams(), *, rows: np.ndarray | None = None,
+            track_index: int = 0,
             stats_params: StatsParams = StatsParams(), plane: PlanarTrack | None = None,
             before: Totals | None = None) -> Proposal:
     """Propose removing spikes (``reasons["spike"]``), catch-up after signal loss (``reasons["catch-up"]``)
@@ -304,7 +309,7 @@ def despike(track: Track, params: SpikeParams = SpikeParams(), *, rows=None, tra
     starts = np.searchsorted(rows_t, [a for a, _ in segments])
     t = pt.t_s[rows_t]
 
-    def sigma_of(given, floor, *cols):
+    def sigma_of(given: float | None, floor: float, *cols: np.ndarray) -> float:
         if given is not None:
             return float(given)
         ends = np.append(starts[1:], len(t))
@@ -324,7 +329,7 @@ def despike(track: Track, params: SpikeParams = SpikeParams(), *, rows=None, tra
             spike[rows_t] |= gate_outliers(t, ele, sigma_v ** 2, activity.vertical_process_noise, gate_v, starts,
                                            params.iterations)
     catch_up = np.zeros(n, dtype=bool)
-    catch_info = {}
+    catch_info: dict[str, Any] = {}
     if params.check_catch_up and len(rows_t) >= 3:
         settings = CatchUpSettings(window_s=params.catch_up_window_s, context_s=params.catch_up_context_s,
                                    passes=params.catch_up_passes, min_gap_s=params.min_gap_s,

@@ -111,7 +111,8 @@ def _inside_run(inside: np.ndarray) -> int:
     return int(kept[-1]) + 1 if len(kept) else 0
 
 
-def _grow(t_s, x, y, cx, cy, radius, first, last, lo_limit, hi_limit, window_s, allowed):
+def _grow(t_s: np.ndarray, x: np.ndarray, y: np.ndarray, cx: float, cy: float, radius: float, first: int, last: int,
+          lo_limit: int, hi_limit: int, window_s: float, allowed: np.ndarray) -> tuple[int, int]:
     """Extend the row range ``first..last`` by up to one window while neighbours stay within ``radius``."""
     lo = max(lo_limit, int(np.searchsorted(t_s, t_s[first] - window_s, side="left")))
     hi = min(hi_limit, int(np.searchsorted(t_s, t_s[last] + window_s, side="right")))
@@ -120,7 +121,8 @@ def _grow(t_s, x, y, cx, cy, radius, first, last, lo_limit, hi_limit, window_s, 
     return first - _inside_run(inside_before[::-1]), last + _inside_run(inside_after)
 
 
-def collapse_stops(track: Track, params: StopParams = StopParams(), *, rows=None, track_index: int = 0,
+def collapse_stops(track: Track, params: StopParams = StopParams(), *, rows: np.ndarray | None = None,
+                   track_index: int = 0,
                    stats_params: StatsParams = StatsParams(), plane: PlanarTrack | None = None,
                    before: Totals | None = None) -> Proposal:
     """Propose moving the points of each stationary period onto one position.
