@@ -75,7 +75,8 @@ import numpy as np
 from .cleaning_base import chi2_quantile
 from .gaps import find_gaps
 from .kalman import Problem
-from .smoothing import LOG10_Q_RANGE, most_likely
+from .scalar_search import most_likely
+from .smoothing import LOG10_Q_RANGE
 
 #: A step longer than this many median intervals (and ``min_gap_s``) is a signal-loss gap.
 GAP_FACTOR = 5.0

@@ -55,7 +55,8 @@ from .cleaning_base import (PlanarTrack, activity_for, noise_sigma, plane_of, se
                             unchanged_proposal)
 from .kalman import Problem
 from .proposal import Proposal, make_proposal
-from .smoothing import LOG10_Q_RANGE, most_likely
+from .scalar_search import most_likely
+from .smoothing import LOG10_Q_RANGE
 from .stats import StatsParams, Totals
 
 

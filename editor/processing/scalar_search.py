@@ -97,4 +97,17 @@ def bounded_minimum(func: Callable[[float], float], lo: float, hi: float, xatol:
     return ScalarMinimum(x=x, fun=fx, evaluations=count, converged=converged)
 
 
-__all__ = ["ScalarMinimum", "bounded_minimum"]
+def most_likely(loglik: Callable[[float], float], bounds: tuple[float, float],
+                tolerance: float) -> tuple[float, float]:
+    """The maximum-likelihood search every tool uses (smoothing strength, gap filling, catch-up check).
+
+    Maximise ``loglik(v)`` for ``v`` between ``10**bounds[1]`` and ``10**bounds[0]``, searching in
+    log10 v to ``tolerance`` with :func:`bounded_minimum`. Returns ``(v, loglik(v))``. The bounds of a
+    process noise q are :data:`editor.processing.smoothing.LOG10_Q_RANGE`.
+    """
+    hi, lo = bounds
+    best = bounded_minimum(lambda log10_value: -loglik(10.0 ** log10_value), lo, hi, tolerance)
+    return float(10.0 ** best.x), float(-best.fun)
+
+
+__all__ = ["ScalarMinimum", "bounded_minimum", "most_likely"]

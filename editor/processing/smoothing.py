@@ -42,7 +42,7 @@ from ..geo.projection import LocalProjection
 from ..model.document import Track
 from .kalman import Problem
 from .proposal import Proposal, make_proposal
-from .scalar_search import bounded_minimum
+from .scalar_search import most_likely
 from .stats import StatsParams
 
 #: log10 of q at strength 0 and 100 per axis (m^2/s^3). At the default sigmas the
@@ -230,16 +230,6 @@ def _problems(arrays: _TrackArrays, params: SmoothParams, rows=None):
     return out
 
 
-def most_likely(loglik: Callable[[float], float], bounds: tuple[float, float],
-                tolerance: float = LOG10_Q_TOLERANCE) -> tuple[float, float]:
-    """The maximum-likelihood search every tool uses: maximise ``loglik(v)`` over ``v`` between
-    ``10**bounds[1]`` and ``10**bounds[0]``, searching in log10 v to ``tolerance`` (a bounded Brent
-    search). Returns ``(v, loglik(v))``. The bounds of a process noise q are :data:`LOG10_Q_RANGE`."""
-    hi, lo = bounds
-    best = bounded_minimum(lambda log10_value: -loglik(10.0 ** log10_value), lo, hi, tolerance)
-    return float(10.0 ** best.x), float(-best.fun)
-
-
 def _fit_axis(problem: Problem, axis: str, fixed_q: float | None, estimate_noise: bool,
               tick: Callable[[], None]):
     """Maximum-likelihood q (and r scale); returns ``(q, r_scale, loglik)``."""
@@ -252,12 +242,12 @@ def _fit_axis(problem: Problem, axis: str, fixed_q: float | None, estimate_noise
     if fixed_q is not None and not estimate_noise:
         return fixed_q, 1.0, problem.loglik(fixed_q)
     if fixed_q is not None:
-        scale, ll = most_likely(counted(lambda s: problem.loglik(fixed_q, s)), (4.0, -4.0))
+        scale, ll = most_likely(counted(lambda s: problem.loglik(fixed_q, s)), (4.0, -4.0), LOG10_Q_TOLERANCE)
         return fixed_q, scale, ll
     if not estimate_noise:
-        q, ll = most_likely(counted(problem.loglik), LOG10_Q_RANGE[axis])
+        q, ll = most_likely(counted(problem.loglik), LOG10_Q_RANGE[axis], LOG10_Q_TOLERANCE)
         return q, 1.0, ll
-    ratio, _ = most_likely(counted(lambda r: problem.concentrated(r)[0]), LOG10_Q_RANGE[axis])
+    ratio, _ = most_likely(counted(lambda r: problem.concentrated(r)[0]), LOG10_Q_RANGE[axis], LOG10_Q_TOLERANCE)
     ll, scale = problem.concentrated(ratio)
     return ratio * scale, scale, ll
 

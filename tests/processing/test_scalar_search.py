@@ -44,3 +44,18 @@ def test_infinite_and_nan_values_are_avoided():
     assert abs(found.x - 2.0) < 1e-3 and np.isfinite(found.fun)
     with pytest.raises(ValueError):
         bounded_minimum(func, 1.0, 1.0)
+
+
+def test_most_likely_finds_the_closed_form_variance_estimate():
+    # The maximum-likelihood variance of zero-mean normal data is the mean of the squares: the textbook
+    # closed form (common practice; set d/dv of the log-likelihood to zero). Searched in log10 v.
+    from editor.processing.scalar_search import most_likely
+
+    x = np.random.default_rng(4).normal(0.0, 3.0, 500)
+
+    def loglik(v: float) -> float:
+        return float(-0.5 * len(x) * np.log(2 * np.pi * v) - (x * x).sum() / (2 * v))
+
+    v, value = most_likely(loglik, (4.0, -4.0), tolerance=1e-4)
+    assert v == pytest.approx(np.mean(x * x), rel=1e-3)
+    assert value == pytest.approx(loglik(np.mean(x * x)), abs=1e-3)
