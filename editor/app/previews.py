@@ -49,8 +49,8 @@ class PreviewController(QtCore.QObject):
         session, state = self.session, self.session.state
         snapshot = session.snapshot()
         if snapshot is None or not len(snapshot.points):
-            self.window.tool_dock.set_status("The shown track has no points to work on (the file may hold only "
-                                      "waypoints or routes).")
+            self.window.tool_dock.set_status("The shown track has no points to work on (the file may hold "
+                                             "only waypoints or routes).")
             return
         rows = state.selection.copy() if selection_only and len(state.selection) else None
         track_index = state.track
