@@ -151,7 +151,7 @@ class FileOps:
             return False
         self.saved_copy_path = target
         self.undo_stack.setClean()
-        self.recovery.discard()
+        self.recovery.saved(target)
         if self.read_only:
             # The salvaged points now live in a sound file of their own: work on that.
             self.read_only = False

@@ -82,14 +82,18 @@ class AppSettings:
 
     @property
     def recovery_dir(self) -> Path:
-        """Folder for crash-recovery journals: beside an INI store, else the per-user data folder."""
+        """Folder for crash-recovery journals: beside an INI store, else the per-user data folder.
+
+        The per-user data folder comes from platformdirs; ``$TRACKWRIGHT_DATA_DIR`` moves it.
+        """
         configured = self.store.value("recovery/dir", "")
         if configured:
             return Path(str(configured))
         if self.store.format() == QtCore.QSettings.Format.IniFormat:
             return Path(self.store.fileName()).with_name("recovery")
-        base = QtCore.QStandardPaths.writableLocation(QtCore.QStandardPaths.StandardLocation.AppDataLocation)
-        return Path(base or Path.home() / ".trackwright") / "recovery"
+        from ..recovery import journal_dir
+
+        return journal_dir()
 
     def value(self, key: str, default=None):
         return self.store.value(key, default)
