@@ -116,13 +116,23 @@ class _Writer:
         raise TypeError(f"cannot journal a value of type {type(value).__name__}")
 
     def table(self, table: PointTable, before: PointTable | None) -> dict:
-        columns = {}
+        columns: dict[str, Any] = {}
+        rows = None if before is None or len(table) == len(before) else _rows_from(table, before)
+        if rows is not None:
+            source, runs = rows
+            columns["rows_from_before"] = self.array(runs.reshape(-1))
         for key in ALL_COLUMNS:
             column = getattr(table, key)
             if before is not None and _same_column(column, getattr(before, key)):
                 columns[key] = {"same": True}
-            else:
-                columns[key] = self.array(column)
+                continue
+            if rows is not None:
+                patch = np.flatnonzero(~_taken(column, getattr(before, key), source))
+                if len(patch) <= len(column) // 2:
+                    columns[key] = {"mapped": True, "patch_rows": self.array(patch.astype("<i8")),
+                                    "patch": self.array(column[patch])}
+                    continue
+            columns[key] = self.array(column)
         return {"table": columns}
 
     def edit(self, edit, before: PointTable | None, depth: int = 0) -> dict:
@@ -147,6 +157,55 @@ def object_addresses(column: np.ndarray) -> np.ndarray:
         return np.zeros(0, dtype=np.uintp)
     buffer = (ctypes.c_size_t * len(column)).from_address(column.ctypes.data)
     return np.frombuffer(buffer, dtype=np.uintp).copy()
+
+
+def _rows_from(table: PointTable, before: PointTable) -> tuple[np.ndarray, np.ndarray] | None:
+    """Which row of ``before`` each row of ``table`` probably came from (-1: none), and the runs.
+
+    Tools that remove or insert a few rows keep the others in order. A row is recognised by its
+    time when the times never decrease (the k-th of equal times maps to the k-th), else by its
+    payload object (exact when every row has its own). The guess is only a hint: each column is then
+    checked against it row by row, and rows it got wrong are written out.
+    Runs are ``(new start, old start, length)`` of consecutive rows.
+    """
+    if len(before) == 0 or len(table) == 0:
+        return None
+    old_time, new_time = before.time.view("int64"), table.time.view("int64")
+    if np.all(old_time[1:] >= old_time[:-1]) and np.all(new_time[1:] >= new_time[:-1]):
+        rank = np.arange(len(new_time)) - np.searchsorted(new_time, new_time, "left")
+        source = np.searchsorted(old_time, new_time, "left") + rank
+        inside = source < len(old_time)
+        hit = inside & (old_time[np.where(inside, source, 0)] == new_time)
+    else:
+        old_keys = object_addresses(before.extra)
+        order = np.argsort(old_keys, kind="stable")
+        old_keys = old_keys[order]  # a shared payload (None) maps to one of its rows: checked below
+        new_keys = object_addresses(table.extra)
+        found = np.minimum(np.searchsorted(old_keys, new_keys), len(old_keys) - 1)
+        hit = old_keys[found] == new_keys
+        source = order[found]
+    source = np.where(hit, source, -1)
+    start = np.ones(len(source), dtype=bool)
+    start[1:] = (source[1:] != source[:-1] + 1) | (source[:-1] < 0)
+    start &= source >= 0
+    first = np.flatnonzero(start)
+    valid_end = np.flatnonzero(np.diff(np.concatenate(([False], source >= 0, [False])).astype(np.int8)) == -1)
+    # each run ends at the next start or at the end of its stretch of found rows
+    stops = np.minimum(np.append(first[1:], len(source)), valid_end[np.searchsorted(valid_end, first, "right")])
+    runs = np.column_stack([first, source[first], stops - first]).astype("<i8")
+    return source, runs
+
+
+def _taken(new: np.ndarray, old: np.ndarray, source: np.ndarray) -> np.ndarray:
+    """Rows of ``new`` that hold exactly ``old[source]``."""
+    ok = source >= 0
+    picked = np.where(ok, source, 0)
+    if new.dtype == object:
+        return ok & (object_addresses(new) == object_addresses(old)[picked])
+    if new.dtype.kind == "M":
+        return ok & (new.view("int64") == old.view("int64")[picked])
+    a, b = new, old[picked]
+    return ok & ((a == b) | (np.isnan(a) & np.isnan(b)) if a.dtype.kind == "f" else ok & (a == b))
 
 
 def _same_column(a: np.ndarray, b: np.ndarray) -> bool:
@@ -256,17 +315,20 @@ class _Reader:
         return values[codes] if len(codes) else np.empty(0, dtype=object)
 
     def table(self, spec: dict) -> PointTable:
-        if set(spec) != set(ALL_COLUMNS):
+        if set(spec) - {"rows_from_before"} != set(ALL_COLUMNS):
             raise JournalDataError("a point table must list exactly the model's columns")
+        source = self.rows_from_before(spec["rows_from_before"]) if "rows_from_before" in spec else None
         columns = {}
         for key in ALL_COLUMNS:
             column = spec[key]
             if not isinstance(column, dict):
                 raise JournalDataError(f"column {key!r} is not described")
+            if (column.get("same") is True or column.get("mapped") is True) and self.before is None:
+                raise JournalDataError(f"column {key!r} refers to a previous table that is not there")
             if column.get("same") is True:
-                if self.before is None:
-                    raise JournalDataError(f"column {key!r} refers to a previous table that is not there")
                 columns[key] = getattr(self.before, key).copy()
+            elif column.get("mapped") is True:
+                columns[key] = self.mapped(getattr(self.before, key), source, column)
             else:
                 columns[key] = self.array(column)
             wanted = object if key in _OBJECT_COLUMNS else ("M" if key == "time" else "f")
@@ -279,6 +341,40 @@ class _Reader:
         except ValueError as err:
             raise JournalDataError(str(err)) from None
         return table
+
+    def rows_from_before(self, spec: dict) -> np.ndarray:
+        runs = self.array(spec)
+        if self.before is None or runs.dtype != np.int64 or len(runs) % 3:
+            raise JournalDataError("row runs are malformed or refer to no previous table")
+        new_start, old_start, length = runs.reshape(-1, 3).T
+        total = int(new_start[-1] + length[-1]) if len(runs) else 0
+        if (np.any(length <= 0) or np.any(new_start < 0) or np.any(old_start < 0)
+                or np.any(old_start + length > len(self.before)) or np.any(np.diff(new_start) < length[:-1])
+                or total > MAX_ITEMS):
+            raise JournalDataError("row runs point outside the previous table")
+        offsets = np.arange(int(length.sum())) - np.repeat(np.cumsum(length) - length, length)
+        source = np.full(total, -1, dtype=np.int64)
+        source[np.repeat(new_start, length) + offsets] = np.repeat(old_start, length) + offsets
+        return source
+
+    def mapped(self, old: np.ndarray, source: np.ndarray | None, spec: dict) -> np.ndarray:
+        if source is None:
+            raise JournalDataError("a mapped column needs row runs")
+        rows, patch = self.array(spec.get("patch_rows") or {}), self.array(spec.get("patch") or {})
+        if rows.dtype != np.int64 or len(rows) != len(patch):
+            raise JournalDataError("a column patch is malformed")
+        n = max(len(source), int(rows.max()) + 1 if len(rows) else 0)
+        if n > MAX_ITEMS or (len(rows) and rows.min() < 0):
+            raise JournalDataError("a column patch points outside its table")
+        full = np.full(n, -1, dtype=np.int64)
+        full[:len(source)] = source
+        covered = full >= 0
+        covered[rows] = True
+        if not covered.all():
+            raise JournalDataError("a mapped column leaves rows without a value")
+        column = old[np.maximum(full, 0)]
+        column[rows] = patch
+        return column
 
     def value(self, spec: Any, depth: int) -> Any:
         if depth > MAX_DEPTH:

@@ -256,3 +256,27 @@ def test_journal_is_written_before_each_edit_returns(tmp_path):
     restored = replay(found[0].journal)
     assert restored.doc.equals(expected) and restored.index == 1 and len(restored.commands) == 2
     found[0].journal.close()
+
+
+@pytest.mark.parametrize("shuffle_times", [False, True])
+def test_a_table_with_rows_removed_and_added_stores_only_the_new_rows(shuffle_times):
+    from editor.model import Document, Track
+
+    before = _table(1000)
+    if shuffle_times:  # times that go backwards: rows are then recognised by their payload objects
+        before.time = before.time[np.random.default_rng(1).permutation(1000)]
+        before.extra = np.array([f"<e>{i}</e>" for i in range(1000)], dtype=object)
+    keep = np.ones(1000, dtype=bool)
+    keep[[3, 500, 501, 998]] = False
+    after = before.take(keep)
+    added = _table(2)
+    added.time = after.time[9] + np.array([300, 600], dtype="timedelta64[ms]")  # between rows 9 and 10
+    after = PointTable.concat([after.take(slice(0, 10)), added, after.take(slice(10, None))])
+    after.ele[20] = -5.0
+    edit = ReplaceTrackPoints(0, after, np.array([0]))
+    text, blobs = encode_edit(edit, before)
+    written = sum(len(memoryview(b).cast("B")) for b in blobs)
+    assert written < 8 * 1000  # far less than one full column
+    doc = Document(tracks=[Track(before.copy(), np.array([0]))])
+    back = decode_edit(text, lambda n: bytes(blobs[n]), doc)
+    assert back.points.equals(after)
