@@ -18,8 +18,18 @@ from PySide6 import QtCore, QtWidgets
 
 from ..commands import EditCommand
 from ..io.save import same_file
-from ..recovery import (FoundJournal, Journal, JournalRecorder, RestoreError, UnreadableJournal, describe_freed,
-                        find_journals, remove_leftover_saves, replay, set_aside)
+from ..recovery import (
+    FoundJournal,
+    Journal,
+    JournalRecorder,
+    RestoreError,
+    UnreadableJournal,
+    describe_freed,
+    find_journals,
+    remove_leftover_saves,
+    replay,
+    set_aside,
+)
 
 _WRITE_ERRORS = (OSError, sqlite3.Error, TypeError, ValueError)
 

@@ -13,9 +13,24 @@ from typing import Callable
 from ..model.document import Document
 from .codec import JournalDataError, decode_edit, encode_edit
 from .leftovers import describe_freed, leftover_saves, remove_leftover_saves
-from .replay import Command, JournalRecorder, Replayed, RestoreError, Summary, replay, summarize
-from .scan import (DATA_DIR_VARIABLE, FoundJournal, UnreadableJournal, data_dir, find_journals, journal_dir,
-                   set_aside)
+from .replay import (
+    Command,
+    JournalRecorder,
+    Replayed,
+    RestoreError,
+    Summary,
+    replay,
+    summarize,
+)
+from .scan import (
+    DATA_DIR_VARIABLE,
+    FoundJournal,
+    UnreadableJournal,
+    data_dir,
+    find_journals,
+    journal_dir,
+    set_aside,
+)
 from .store import FORMAT, SUFFIX, Journal, JournalLockedError, file_digest
 
 

@@ -25,9 +25,9 @@ from editor.commands import hand_edits  # noqa: E402
 from editor.geo.projection import LocalProjection  # noqa: E402
 from editor.io.gpx import read_gpx  # noqa: E402
 from editor.model.edits import ReplaceTrackPoints  # noqa: E402
-from editor.processing.tools import TOOLS  # noqa: E402
-from editor.processing.smoothing import SmoothParams  # noqa: E402
 from editor.processing.simplify import SimplifyParams  # noqa: E402
+from editor.processing.smoothing import SmoothParams  # noqa: E402
+from editor.processing.tools import TOOLS  # noqa: E402
 from editor.recovery import Command, Journal, JournalRecorder, find_journals, replay  # noqa: E402
 from tests.bench.bench_io import make_gpx  # noqa: E402
 

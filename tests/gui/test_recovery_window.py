@@ -6,7 +6,6 @@ just before the kill is restored. Hostile or damaged journals are reported, neve
 from __future__ import annotations
 
 import os
-import pickle
 import shutil
 import signal
 import sqlite3

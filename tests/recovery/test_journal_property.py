@@ -6,7 +6,8 @@ import tempfile
 from pathlib import Path
 
 import numpy as np
-from hypothesis import HealthCheck, given, settings, strategies as st
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from editor.commands import hand_edits
 from editor.geo.projection import LocalProjection
@@ -21,7 +22,6 @@ from editor.processing.spikes import SpikeParams
 from editor.processing.stops import StopParams
 from editor.processing.tools import TOOLS
 from editor.recovery import Journal, JournalRecorder, find_journals, replay
-
 from tests.recovery.rich_gpx import rich_gpx
 from tests.recovery.stack_model import StackModel
 

@@ -5,7 +5,6 @@ import dataclasses
 import json
 import os
 import pickle
-import shutil
 import stat
 import subprocess
 import sys
@@ -18,11 +17,24 @@ import pytest
 from editor.io.gpx import read_gpx
 from editor.io.payload import ElementExtra, PointExtra
 from editor.model import DeletePoints, InsertPoints, PointTable, SetValues, SplitSegment
-from editor.model.edits import EditSequence, MergeSegments, ReplaceTrackPoints, RestoreBoundary
-from editor.recovery import (Journal, JournalDataError, JournalRecorder, RestoreError, decode_edit, encode_edit,
-                             find_journals, journal_dir, replay)
+from editor.model.edits import (
+    EditSequence,
+    MergeSegments,
+    ReplaceTrackPoints,
+    RestoreBoundary,
+)
+from editor.recovery import (
+    Journal,
+    JournalDataError,
+    JournalRecorder,
+    RestoreError,
+    decode_edit,
+    encode_edit,
+    find_journals,
+    journal_dir,
+    replay,
+)
 from editor.recovery.codec import EDIT_KINDS
-
 from tests.recovery.rich_gpx import rich_gpx
 from tests.recovery.stack_model import StackModel
 
