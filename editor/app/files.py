@@ -141,7 +141,7 @@ class FileController:
             self.show_file_error("Cannot save", TrackFileError(target, err.strerror or str(err)))
             return False
         window.undo_stack.setClean()
-        window.recovery.discard()
+        window.recovery.saved(target)
         if self.session.saved_copy(target):
             # The salvaged points now live in a sound file of their own: work on that.
             window.recovery.document_opened(target)

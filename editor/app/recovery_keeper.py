@@ -1,113 +1,198 @@
-"""Keeps the crash-recovery journal of a window up to date and offers journals left by a crash.
+"""The window's side of crash recovery: journal every undo-stack change, offer journals left by a crash.
 
-The journal (:mod:`editor.recovery`) is written at most every
-:data:`JOURNAL_INTERVAL_MS` while there are unsaved edits, at once after every
-applied tool, and removed after a clean save or close. After a crash the next
-start lists the journals whose editor is gone and offers to restore them: the
-original file is read again and every journaled edit is pushed back onto the
-undo stack with its label, so the history (and undo) come back too.
+All the logic is Qt-free in :mod:`editor.recovery`; this module only connects it to
+the window. Every change of the undo stack (a new edit, undo, redo) is appended to
+the journal at once. A save over the original starts a fresh journal from the saved
+file; a save elsewhere marks the saved state; closing removes the journal. At start
+the journals of editors that stopped are offered, journals that cannot be restored
+are reported with the place they were moved to, and the files of interrupted saves
+are removed.
 """
 from __future__ import annotations
 
+import sqlite3
+from contextlib import contextmanager
 from pathlib import Path
 
 from PySide6 import QtCore, QtWidgets
 
 from ..commands import EditCommand
-from ..io.errors import TrackFileError
-from ..recovery import JournalEntry, RecoveryJournal, find_journals, load_edits, original_document
+from ..io.save import same_file
+from ..recovery import (
+    FoundJournal,
+    Journal,
+    JournalRecorder,
+    RestoreError,
+    UnreadableJournal,
+    describe_freed,
+    find_journals,
+    remove_leftover_saves,
+    replay,
+    set_aside,
+)
 
-#: Longest time unsaved edits stay out of the journal (milliseconds).
-JOURNAL_INTERVAL_MS = 20_000
+_WRITE_ERRORS = (OSError, sqlite3.Error, TypeError, ValueError)
 
 
 class RecoveryKeeper(QtCore.QObject):
-    """Journals one window's undo stack. ``window`` needs ``undo_stack``, ``doc`` and ``settings``."""
+    """Journals one window's undo stack. ``window`` needs ``undo_stack``, ``settings``, ``closing``."""
 
-    def __init__(self, window, interval_ms: int = JOURNAL_INTERVAL_MS) -> None:
+    def __init__(self, window) -> None:
         super().__init__(window)
         self.window = window
-        self.journal: RecoveryJournal | None = None
-        self._timer = QtCore.QTimer(self, singleShot=True, interval=interval_ms)
-        self._timer.timeout.connect(self.record_now)
-        window.undo_stack.indexChanged.connect(self._stack_changed)
+        self.recorder: JournalRecorder | None = None
+        self._suspended = False
+        window.undo_stack.indexChanged.connect(self.record_now)
 
     @property
     def directory(self) -> Path:
         return self.window.settings.recovery_dir
 
+    @property
+    def journal(self) -> Journal | None:
+        return None if self.recorder is None else self.recorder.journal
+
     def document_opened(self, path) -> None:
         """Start a new journal for a document read from ``path`` (``None``: nothing to replay from)."""
         self.discard()
-        try:
-            self.journal = RecoveryJournal(self.directory, path) if path and Path(path).is_file() else None
-        except OSError:
-            self.journal = None
-
-    def _stack_changed(self, _index: int) -> None:
-        if self.journal is None or self.window.closing:
+        if self._suspended or not path or not Path(path).is_file():
             return
         try:
-            clean = self.window.undo_stack.isClean()
-        except RuntimeError:  # the stack announces its own clearing while Qt destroys it
-            return
-        if clean:
-            self.journal.discard()
-            self._timer.stop()
-        elif not self._timer.isActive():
-            self._timer.start()
+            self.recorder = JournalRecorder(Journal.create(self.directory, path))
+        except (OSError, sqlite3.Error) as err:
+            self._say(f"Crash recovery is off for this file: the journal could not be created ({err}).")
 
-    def record_now(self) -> None:
-        """Write the journal now (after an applied tool, or when the interval ends)."""
-        self._timer.stop()
-        if self.journal is None or self.window.undo_stack.isClean():
+    def record_now(self, *_args) -> None:
+        """Bring the journal up to date with the undo stack (called on every index change)."""
+        if self.recorder is None or self._suspended or self.window.closing:
             return
         stack = self.window.undo_stack
-        commands = [stack.command(i) for i in range(stack.index())]
         try:
-            self.journal.record([c.forward for c in commands], [c.text() for c in commands])
-        except OSError as err:  # a full disk must not stop editing; say so once
-            self.window.statusBar().showMessage(f"Could not write the recovery journal: {err}", 8000)
+            self.recorder.sync(stack.index(), stack.count(), stack.command, stack.text)
+        except RuntimeError:  # the stack announces its own clearing while Qt destroys it
+            return
+        except _WRITE_ERRORS as err:
+            # A journal missing a step would replay into a wrong document: drop it, and say so.
+            self.discard()
+            self._say(f"Crash recovery is off for this document: the journal could not be written ({err}).")
+
+    def saved(self, target) -> None:
+        """The document was saved to ``target`` (the undo stack is clean now)."""
+        if self.recorder is None:
+            return
+        stack = self.window.undo_stack
+        if same_file(target, self.recorder.journal.source_path):
+            # Saved over the original: later edits apply to the saved file, so start from it.
+            old = self.recorder
+            index = stack.index()
+            try:
+                fresh = Journal.create(self.directory, target)
+            except (OSError, sqlite3.Error) as err:
+                self.discard()
+                self._say(f"Crash recovery is off for this file: the journal could not be created ({err}).")
+                return
+            old.journal.discard()
+            self.recorder = JournalRecorder(fresh, old.live[:index], offset=index)
+            return
+        try:
+            self.recorder.clean_at(stack.cleanIndex())
+        except _WRITE_ERRORS as err:
+            self.discard()
+            self._say(f"Crash recovery is off for this document: the journal could not be written ({err}).")
 
     def discard(self) -> None:
-        self._timer.stop()
-        if self.journal is not None:
-            self.journal.discard()
+        """Remove the journal (after a close, or when another document replaces this one)."""
+        if self.recorder is not None:
+            self.recorder.journal.discard()
+            self.recorder = None
+
+    @contextmanager
+    def suspended(self):
+        """Changes made inside are not journaled (a restore rebuilding the stack)."""
+        self._suspended = True
+        try:
+            yield
+        finally:
+            self._suspended = False
+
+    def adopt(self, journal: Journal) -> None:
+        """Continue writing a restored journal, whose steps describe the window's stack as it is now."""
+        self.discard()
+        stack = self.window.undo_stack
+        commands = [(stack.command(i), stack.text(i)) for i in range(stack.count())]
+        self.recorder = JournalRecorder(journal, commands, offset=0, index=stack.index())
+        try:
+            self.recorder.clean_at(stack.cleanIndex())
+        except _WRITE_ERRORS as err:
+            self.discard()
+            self._say(f"Crash recovery is off for this document: the journal could not be written ({err}).")
+
+    def _say(self, text: str) -> None:
+        self.window.statusBar().showMessage(text, 10000)
 
 
 def offer_recovery(window) -> bool:
-    """Ask whether to restore journals left by an editor that stopped unexpectedly.
+    """At start: tidy interrupted saves, report unreadable journals, offer restorable ones.
 
     Returns True when a document was restored into ``window``.
     """
-    entries = find_journals(window.settings.recovery_dir)
-    for entry in entries:
-        name = Path(entry.source_path).name if entry.source_path else "an unsaved document"
+    found, unreadable = find_journals(window.settings.recovery_dir)
+    tidy_interrupted_saves(window, [f.source_path for f in found])
+    for item in unreadable:
+        tell_not_restored(window, item)
+    restored = False
+    for entry in found:
+        if restored:
+            entry.journal.close()  # offered again at the next start
+            continue
+        name = Path(entry.source_path).name
         steps = "\n".join(f"  • {label}" for label in entry.labels[-8:])
         answer = QtWidgets.QMessageBox.question(
             window, "Restore unsaved edits?",
             f"Trackwright stopped before saving the edits to {name}:\n{steps}\n\n"
             "Restore them now? (No deletes this recovery journal.)")
         if answer == QtWidgets.QMessageBox.StandardButton.Yes:
-            if restore_into(window, entry):
-                return True
+            restored = restore_into(window, entry)
         else:
-            entry.journal_path.unlink(missing_ok=True)
-    return False
+            entry.journal.discard()
+    return restored
 
 
-def restore_into(window, entry: JournalEntry) -> bool:
-    """Open the journal's original file in ``window`` and push its edits back as undo steps."""
+def tell_not_restored(window, item: UnreadableJournal) -> None:
+    where = item.moved_to or item.path
+    QtWidgets.QMessageBox.warning(
+        window, "Unsaved edits could not be restored",
+        f"A recovery journal could not be restored: {item.reason}.\n\n"
+        f"Nothing in it was run. It was kept here:\n{where}")
+
+
+def tidy_interrupted_saves(window, extra_files=()) -> int:
+    """Remove temporary files of killed saves beside recent files; tell how much that freed."""
+    removed, freed = remove_leftover_saves([*window.settings.recent_files(), *extra_files])
+    if removed:
+        window.statusBar().showMessage(describe_freed(len(removed), freed), 15000)
+    return freed
+
+
+def restore_into(window, entry: FoundJournal) -> bool:
+    """Replay ``entry`` and rebuild the document and its undo history in ``window``."""
     try:
-        edits = load_edits(entry)
-        doc = original_document(entry)
-    except TrackFileError as err:
-        window.files.show_file_error("Cannot restore the edits", err)
+        replayed = replay(entry.journal)
+    except RestoreError as err:
+        tell_not_restored(window, set_aside(entry, str(err)))
         return False
-    window.display.set_document(doc, entry.source_path)
-    for edit, label in zip(edits, entry.labels):
-        window.undo_stack.push(EditCommand(window.session.doc, edit, label))
-    entry.journal_path.unlink(missing_ok=True)
-    window.recovery.record_now()
-    window.statusBar().showMessage(f"Restored {len(edits)} unsaved edit(s) to {Path(entry.source_path).name}", 8000)
+    index = replayed.index
+    bottom = replayed.rewind()
+    keeper: RecoveryKeeper = window.recovery
+    with keeper.suspended():
+        window.display.set_document(bottom, entry.source_path)
+        for command in replayed.commands:
+            window.undo_stack.push(EditCommand(window.session.doc, command.forward, command.label))
+        window.undo_stack.setIndex(index)
+        if not replayed.starts_at_original:
+            window.undo_stack.resetClean()  # the bottom of the history is not the file on disk
+    keeper.adopt(entry.journal)
+    note = f" {replayed.notes[0]}" if replayed.notes else ""
+    window.statusBar().showMessage(
+        f"Restored {index} unsaved edit(s) to {Path(entry.source_path).name}.{note}", 12000)
     return True

@@ -25,11 +25,6 @@ def user_settings_path() -> Path:
     return Path(platformdirs.user_config_dir(APP_DIR_NAME, appauthor=False)) / "settings.ini"
 
 
-def user_recovery_dir() -> Path:
-    """Where crash-recovery journals go, e.g. ``~/.local/share/trackwright/recovery`` on Linux."""
-    return Path(platformdirs.user_data_dir(APP_DIR_NAME, appauthor=False)) / "recovery"
-
-
 class AppSettings:
     """Typed access to a :class:`QtCore.QSettings` store."""
 
@@ -100,14 +95,18 @@ class AppSettings:
 
     @property
     def recovery_dir(self) -> Path:
-        """Folder for crash-recovery journals: beside a settings file of its own (tests, portable use),
-        else the platform's per-user data folder."""
+        """Folder for crash-recovery journals: beside an INI store, else the per-user data folder.
+
+        The per-user data folder comes from platformdirs; ``$TRACKWRIGHT_DATA_DIR`` moves it.
+        """
         configured = self.store.value("recovery/dir", "")
         if configured:
             return Path(str(configured))
         if self._beside_store and self.store.format() == QtCore.QSettings.Format.IniFormat:
             return Path(self.store.fileName()).with_name("recovery")
-        return user_recovery_dir()
+        from ..recovery import journal_dir
+
+        return journal_dir()
 
     def value(self, key: str, default=None):
         return self.store.value(key, default)
