@@ -182,6 +182,21 @@ def build_table(texts: PointTexts) -> tuple[PointTable, int]:
     return table, without_zone
 
 
+def segments_out_of_order(times: np.ndarray, starts: np.ndarray) -> list[int]:
+    """Segments (numbers, from ``starts``) holding a time not later than the one before it.
+
+    One vectorised pass over the whole track, so that a file of a million tiny
+    segments costs no per-segment work unless the segment has a problem.
+    """
+    rows = np.flatnonzero(~np.isnat(times))
+    if len(rows) < 2:
+        return []
+    segment = np.searchsorted(starts, rows, side="right") - 1
+    steps = np.diff(times[rows].view(np.int64))
+    bad = (steps <= 0) & (segment[1:] == segment[:-1])
+    return np.unique(segment[1:][bad]).tolist()
+
+
 def time_order_warnings(times: np.ndarray, where: str, line_of: Callable[[int], int | None]) -> list[str]:
     """Warnings for times earlier than, or equal to, the previous timed point of a segment."""
     rows = np.flatnonzero(~np.isnat(times))
