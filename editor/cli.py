@@ -55,24 +55,18 @@ def cmd_stats(args) -> int:
     return 0
 
 
-def _same_file(a: Path, b: Path) -> bool:
-    try:
-        return a.resolve() == b.resolve() or (b.exists() and a.samefile(b))
-    except OSError:
-        return False
-
-
 def cmd_export(args) -> int:
     from .io.export import write_document
+    from .io.gpx import read_gpx
+    from .io.save import check_target, same_file
 
     src, dst = Path(args.input), Path(args.output)
-    if _same_file(src, dst):
+    if same_file(src, dst):
         raise TrackFileError(dst, "refusing to overwrite the input file; choose another output name")
-    from .io.gpx import read_gpx
-
+    check_target(dst, args.overwrite)
     doc = read_gpx(src)
-    write_document(doc, dst)
-    print(f"wrote {dst}")
+    backup = write_document(doc, dst, backup=args.overwrite)
+    print(f"wrote {dst}" + (f" (the file it replaced is kept as {backup})" if backup else ""))
     return 0
 
 
@@ -96,6 +90,8 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("export", help="write a GPX file as GPX 1.1, GeoJSON or CSV (by OUT's extension)")
     p.add_argument("input", type=Path)
     p.add_argument("-o", "--output", type=Path, required=True, help="output file: .gpx, .geojson or .csv")
+    p.add_argument("--overwrite", action="store_true",
+                   help="replace OUT if it exists, keeping the replaced file as OUT.bak")
     p.set_defaults(run=cmd_export)
 
     from . import cli_clean  # the clean command lives in its own module

@@ -13,7 +13,8 @@ unless ``--simplify METRES``; elevation is kept to the same number of metres
 unless ``--simplify-vertical`` says otherwise, so climb totals survive). Everything the steps do not touch is kept:
 waypoints, routes, metadata and extensions.
 
-An input is never overwritten, and an existing output only with ``--overwrite``.
+An input is never overwritten, and an existing output only with ``--overwrite``
+(the replaced file is then kept as ``OUT.bak``).
 Output files are written atomically. Exit status: 0 when every file was cleaned,
 2 when an input could not be read or an output not written (the other files
 are still done) or the command line is wrong.
@@ -25,6 +26,7 @@ import sys
 from pathlib import Path
 
 from .io.errors import TrackFileError
+from .io.save import check_target, same_file
 
 #: Suffix added to an input's name for its cleaned copy in ``-d`` mode.
 OUTPUT_SUFFIX = "-cleaned"
@@ -135,13 +137,6 @@ def _simplify_params(tolerance_m: float, vertical_tolerance_m: float | None):
     return SimplifyParams(tolerance_m=tolerance_m, vertical_tolerance_m=vertical_tolerance_m)
 
 
-def _same_file(a: Path, b: Path) -> bool:
-    try:
-        return a.resolve() == b.resolve() or (a.exists() and b.exists() and a.samefile(b))
-    except OSError:
-        return False
-
-
 def plan_outputs(inputs: list[Path], output: Path | None, output_dir: Path | None, overwrite: bool) -> list[Path]:
     """The output path of every input; raises :class:`TrackFileError` before any work is done."""
     if output is not None:
@@ -160,10 +155,9 @@ def plan_outputs(inputs: list[Path], output: Path | None, output_dir: Path | Non
             raise TrackFileError(dst, f"unknown output type {dst.suffix or '(no extension)'!r}; "
                                       "use .gpx, .geojson or .csv")
         for src in inputs:
-            if _same_file(src, dst):
+            if same_file(src, dst):
                 raise TrackFileError(dst, "refusing to overwrite an input file; choose another output name")
-        if dst.exists() and not overwrite:
-            raise TrackFileError(dst, "already exists; pass --overwrite to replace it")
+        check_target(dst, overwrite)
     return outputs
 
 
@@ -214,7 +208,7 @@ def cmd_clean(args) -> int:
 
             cleaned, report = clean_document(doc, params, progress=step)
             bar(0.92, "writing")
-            write_document(cleaned, dst)
+            write_document(cleaned, dst, backup=args.overwrite)
             bar(1.0, "done")
         except TrackFileError as err:
             bar.close()

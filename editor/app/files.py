@@ -110,8 +110,13 @@ class FileOps:
         if not target.exists():
             return True
         is_original = self.source_path is not None and _same_file(target, self.source_path)
-        text = (f"{target.name} is the file you opened. Replacing it loses the original recording.\n\n"
-                "Replace the original anyway?" if is_original else f"{target.name} already exists. Replace it?")
+        if is_original:
+            from ..io.save import next_backup_name
+
+            text = (f"{target.name} is the file you opened. Saving over it replaces the original recording; "
+                    f"the original is kept as a backup:\n{next_backup_name(target)}\n\nReplace the original?")
+        else:
+            text = f"{target.name} already exists. Replace it?"
         answer = QtWidgets.QMessageBox.warning(
             self, "Replace file?", text,
             QtWidgets.QMessageBox.StandardButton.Yes | QtWidgets.QMessageBox.StandardButton.Cancel,
@@ -215,7 +220,6 @@ class FileOps:
 
 
 def _same_file(a: Path, b: Path) -> bool:
-    try:
-        return a.resolve() == b.resolve() or (a.exists() and b.exists() and a.samefile(b))
-    except OSError:
-        return False
+    from ..io.save import same_file  # never raises, not even on a symbolic-link loop
+
+    return same_file(a, b)

@@ -21,8 +21,6 @@ the original file is never overwritten without a backup by :func:`write_gpx`.
 """
 from __future__ import annotations
 
-import os
-
 from ..model import Document
 from .errors import TrackFileError
 from . import gpx_scan
@@ -30,12 +28,16 @@ from .gpx_parse import MAX_FILE_BYTES, parse_root, size_problem, validate
 from .gpx_tree import TreeReader
 from .gpx_write import gpx_bytes, gpx_chunks, gpx_text
 from .save import atomic_write, same_file
+from .source import read_limited
 
 __all__ = ["read_gpx", "read_gpx_bytes", "write_gpx", "gpx_bytes", "gpx_text", "MAX_FILE_BYTES"]
 
 
 def read_gpx(path) -> Document:
     """Read a GPX 1.1 or 1.0 file.
+
+    Only regular files are read (see :func:`editor.io.source.read_limited`):
+    a named pipe, a device, a folder or a symbolic-link loop is refused at once.
 
     Raises
     ------
@@ -44,16 +46,7 @@ def read_gpx(path) -> Document:
         or broken part way, its ``partial`` attribute holds the points read
         before the break (a :class:`Document` for viewing) or ``None``.
     """
-    try:
-        with open(path, "rb") as file:
-            size = os.fstat(file.fileno()).st_size
-            problem = size_problem(size)
-            if problem:
-                raise TrackFileError(path, problem)
-            data = file.read()
-    except OSError as error:
-        raise TrackFileError(path, f"cannot read the file: {error.strerror or error}") from None
-    return _read(data, str(path))
+    return _read(read_limited(path, MAX_FILE_BYTES, size_problem), str(path))
 
 
 def read_gpx_bytes(data: bytes, path=None) -> Document:
