@@ -39,7 +39,7 @@ import re
 from dataclasses import dataclass, field
 
 from ..model import PointTable
-from .gpx_values import PointTexts, ValueProblem, build_table
+from .gpx_values import PointTexts, ReadNotes, ValueProblem, build_table
 from .gpx_xml import escape_text, unescape
 from .payload import point_extra
 
@@ -82,8 +82,8 @@ class Scan:
     data: bytes
     #: every track point of the file, in file order
     table: PointTable
-    #: how many of their times had no time zone
-    without_zone: int
+    #: what converting their values noticed (zone-less times, the file's own texts...)
+    notes: ReadNotes
     skeleton: bytes
     _offsets: list = field(default=None, repr=False)
 
@@ -133,7 +133,7 @@ def scan_points(data: bytes) -> Scan | None:
     if not expected or data.count(b"trkpt") != 2 * expected:
         return None
     normalise = data.find(b"\r") != -1
-    tables, skeleton, without_zone = [], [], 0
+    tables, skeleton, notes = [], [], ReadNotes()
     try:
         for chunk in _chunks(data):
             parts = _POINT.split(chunk)
@@ -141,15 +141,15 @@ def scan_points(data: bytes) -> Scan | None:
             # chunk's placeholders splits a long segment's text
             skeleton.append(_PLACEHOLDER_BYTES.join(parts[0::_GROUPS + 1]))
             if len(parts) > 1:
-                table, missing_zone = build_table(_texts(parts, normalise))
+                table, chunk_notes = build_table(_texts(parts, normalise))
                 tables.append(table)
-                without_zone += missing_zone
+                notes.add(chunk_notes)
     except (ValueProblem, UnicodeDecodeError):
         return None  # the tree reader judges the value and names its line
     table = PointTable.concat(tables)
     if len(table) != expected:
         return None
-    return Scan(data, table, without_zone, b"<!---->".join(skeleton))
+    return Scan(data, table, notes, b"<!---->".join(skeleton))
 
 
 def skeleton_matches(scan: Scan, root, segments) -> bool:

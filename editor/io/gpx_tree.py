@@ -19,7 +19,7 @@ warning (GPX 1.1 allows none on these elements).
 from __future__ import annotations
 
 from collections import Counter
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Callable
 
 import numpy as np
@@ -28,7 +28,8 @@ from lxml import etree
 from ..model import ALL_COLUMNS, Document, PointTable, Route, Track
 from .errors import TrackFileError
 from .gpx_scan import PLACEHOLDER
-from .gpx_values import PointTexts, ValueProblem, build_table, segments_out_of_order, time_order_warnings
+from .gpx_source import SourceTexts
+from .gpx_values import PointTexts, ReadNotes, ValueProblem, build_table, segments_out_of_order, time_order_warnings
 from .gpx_xml import (CONTAINER_SLOTS, GPX10, GPX11, GPX11_XSD, POINT_FIELDS, POINT_SLOTS, XSI,
                       Fragments, local_name, qualified_attribute)
 from .gpx_v10 import V10_METADATA, metadata_from_v10, v10_link
@@ -240,7 +241,7 @@ class TreeReader:
             extras.append(point_extra(*parts, extensions))
         return PointTexts(**columns, extra=extras)
 
-    def table(self, elements: Callable[[], list], describe: Callable[[int], str]) -> tuple[PointTable, int]:
+    def table(self, elements: Callable[[], list], describe: Callable[[int], str]) -> tuple[PointTable, ReadNotes]:
         """Read point elements into a table; errors name the point and its line."""
         points = elements()
         try:
@@ -261,14 +262,13 @@ class TreeReader:
     def document(self, shape: Shape) -> Document:
         """Assemble the document (track points from the scan when reading a skeleton)."""
         doc = Document(extra=shape.extra, source_path=self.path)
-        without_zone = first = 0
+        first = 0
         placed = []  # file-wide index of each track's row 0
-        doc.waypoints, count = self.table(lambda: shape.waypoints, lambda i: f"waypoint {i + 1}")
-        without_zone += count
+        doc.waypoints, notes = self.table(lambda: shape.waypoints, lambda i: f"waypoint {i + 1}")
         for r, route in enumerate(shape.routes):
             points, count = self.table(lambda: list(route.element.iterchildren(self.prefix + "rtept")),
                                        lambda i, r=r: f"route {r + 1}, point {i + 1}")
-            without_zone += count
+            notes.add(count)
             doc.routes.append(Route(points, route.name, route.extra))
         for t, track in enumerate(shape.tracks):
             starts = np.concatenate(([0], np.cumsum(track.counts)[:-1])).astype(np.int64) \
@@ -281,18 +281,18 @@ class TreeReader:
                 points, count = self.table(
                     lambda: [p for s in track.segments for p in s.iterchildren(self.prefix + "trkpt")],
                     lambda i, t=t, starts=starts: _where_in_track(t, starts, i))
-                without_zone += count
+                notes.add(count)
             segment_extra = track.segment_extra or [None]
             doc.tracks.append(Track(points, starts, track.name, track.extra, list(segment_extra)))
             placed.append(first)
             first += len(points)
         doc.warnings += self.all_order_warnings(doc.tracks, shape.tracks, placed)
         if self.scan is not None:
-            without_zone += self.scan.without_zone
-        if without_zone:
-            doc.warnings.append(f"{without_zone} time{'s' if without_zone > 1 else ''} had no time zone "
-                                f"and {'were' if without_zone > 1 else 'was'} read as UTC")
+            notes.add(self.scan.notes)
+        doc.warnings += notes.warnings()
         doc.warnings += self.note_warnings()
+        if notes.sources:
+            doc.extra = replace(doc.extra, source_texts=SourceTexts.merge(notes.sources))
         return doc
 
     def all_order_warnings(self, tracks: list, shapes: list, placed: list) -> list[str]:

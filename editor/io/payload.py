@@ -90,6 +90,9 @@ class DocumentExtra:
     extensions : inner XML of the root ``<extensions>``, or ``None``.
     source_version : GPX version the file was read as (``"1.1"`` or ``"1.0"``);
         informative only (not compared): the writer always writes 1.1.
+    source_texts : the file's own text of point values that the writer's compact
+        form would not reproduce (a :class:`editor.io.gpx_source.SourceTexts`),
+        or ``None``; not compared (it describes the file, not the content).
     """
 
     namespaces: tuple[tuple[str, str], ...] = ()
@@ -98,6 +101,7 @@ class DocumentExtra:
     metadata: str | None = None
     extensions: str | None = None
     source_version: str = field(default="1.1", compare=False)
+    source_texts: object = field(default=None, compare=False, repr=False)
 
 
 def point_extra(after_time: str = "", after_name: str = "", after_pdop: str = "",

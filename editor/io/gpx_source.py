@@ -1,0 +1,163 @@
+"""The file's own text of unchanged values, and compact text for changed ones.
+
+A point whose latitude, longitude, elevation or time no edit changed is
+written back with the text the file had (``lat="46.5197670"``,
+``<time>2007-11-25T17:58:00+01:00</time>``); a changed value is written
+compactly, to about a centimetre: latitude and longitude with at most
+:data:`COORDINATE_DECIMALS` decimals of a degree (1e-7 degree is 1.1 cm or
+less), elevation with at most :data:`ELEVATION_DECIMALS` (1 cm), in both cases
+without trailing zeros; a changed time as UTC with a ``Z`` (as many fraction
+digits as needed). Without this, smoothed coordinates were written with 15-17
+significant digits and a cleaned file grew by a third.
+
+How "unchanged" is known without a per-point column: the reader keeps, for
+each of the four fields, the texts that the compact form would *not*
+reproduce (trailing zeros, more decimals, a time zone offset...), keyed by the
+value they denote (:class:`SourceTexts`). The writer looks each value up: a
+value found there is written with its original text, which denotes exactly
+that value, so an edit that moves a point can never be written with a stale
+text; a value not found (changed, or already in the compact form) is written
+compactly. Texts already in compact form are not stored at all, so the usual
+file costs nothing. Two points with the same value but differently spelled
+texts get the first spelling. Texts that the GPX 1.1 schema would refuse
+(exponents, a leap second 23:59:60, a lowercase ``z``) are not kept: such
+values are written in the compact form.
+"""
+from __future__ import annotations
+
+import re
+from itertools import chain
+from dataclasses import dataclass, field
+from typing import Sequence
+
+import numpy as np
+
+COORDINATE_DECIMALS = 7
+ELEVATION_DECIMALS = 2
+#: Fields whose file text is kept; their decimals when written compactly (``None``: a time).
+FIELDS = {"lat": COORDINATE_DECIMALS, "lon": COORDINATE_DECIMALS, "ele": ELEVATION_DECIMALS, "time": None}
+
+_COMPACT = {d: re.compile(rf"(?:(?:0|-?(?:0\.\d{{0,{d - 1}}}[1-9]|[1-9]\d*(?:\.\d{{0,{d - 1}}}[1-9])?))\n)*")
+            for d in (COORDINATE_DECIMALS, ELEVATION_DECIMALS)}
+_DECIMAL = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)")  # xsd:decimal
+_COMPACT_TIME = re.compile(r"(?:\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(?:\.\d{0,8}[1-9])?Z\n)*")
+_SCHEMA_TIME = re.compile(r"-?\d{4,}-\d\d-\d\dT\d\d:\d\d:[0-5]\d(?:\.\d+)?(?:Z|[+-]\d\d:\d\d)?")  # xsd:dateTime
+_EXACT_LIMIT = 2.0 ** 53
+
+
+@dataclass
+class SourceTexts:
+    """Per field: sorted values (float64, or int64 nanoseconds for times) and the file's text of each."""
+
+    keys: dict = field(default_factory=dict)
+    texts: dict = field(default_factory=dict)
+
+    def __bool__(self) -> bool:
+        return any(len(k) for k in self.keys.values())
+
+    def lookup(self, name: str, values: np.ndarray) -> tuple[np.ndarray, list]:
+        """Rows of ``values`` that have a kept text, and those texts."""
+        keys = self.keys.get(name)
+        if keys is None or not len(keys) or not len(values):
+            return np.zeros(0, dtype=np.int64), []
+        probe = values.view(np.int64) if name == "time" else values
+        index = np.minimum(np.searchsorted(keys, probe), len(keys) - 1)
+        rows = np.flatnonzero(keys[index] == probe)
+        texts = self.texts[name]
+        return rows, [texts[i] for i in index[rows].tolist()]
+
+    @staticmethod
+    def merge(parts: Sequence["SourceTexts"]) -> "SourceTexts":
+        """One lookup from the pieces of several point runs (the first text of a value wins)."""
+        merged = SourceTexts()
+        for name in FIELDS:
+            keys = [p.keys[name] for p in parts if name in p.keys and len(p.keys[name])]
+            if not keys:
+                continue
+            texts = np.concatenate([p.texts[name] for p in parts if name in p.keys and len(p.keys[name])])
+            keys = np.concatenate(keys)
+            order = np.argsort(keys, kind="stable")
+            keys, texts = keys[order], texts[order]
+            first = np.ones(len(keys), dtype=bool)
+            first[1:] = keys[1:] != keys[:-1]
+            merged.keys[name], merged.texts[name] = keys[first], texts[first]
+        return merged
+
+
+def collect(texts: dict, values: dict) -> SourceTexts:
+    """The texts of one run of points that the compact form would not reproduce.
+
+    ``texts[name]`` is the column of texts as read (``None`` where absent),
+    ``values[name]`` the converted column.
+    """
+    found = SourceTexts()
+    for name, decimals in FIELDS.items():
+        column = texts[name]
+        present = [t for t in column if t]
+        if not present:
+            continue
+        compact = _COMPACT_TIME if decimals is None else _COMPACT[decimals]
+        if compact.fullmatch("\n".join(present) + "\n"):
+            continue  # the usual file: every text is already what the writer would write
+        schema = _SCHEMA_TIME if decimals is None else _DECIMAL
+        rows, kept = [], []
+        for row, text in enumerate(column):
+            if not text:
+                continue
+            text = text.strip()
+            if not compact.fullmatch(text + "\n") and schema.fullmatch(text) and not _leap(text, decimals):
+                rows.append(row)
+                kept.append(text)
+        if rows:
+            keys = values[name][rows]
+            found.keys[name] = keys.view(np.int64) if decimals is None else keys
+            found.texts[name] = np.array(kept, dtype=object)
+    return SourceTexts.merge([found])  # sorted, one text per value
+
+
+def _leap(text: str, decimals) -> bool:
+    return decimals is None and text[17:19] == "60"
+
+
+def compact_texts(values: np.ndarray, decimals: int) -> list[str]:
+    """``values`` rounded to ``decimals`` places, written without trailing zeros ("46.5", "-0.0000001")."""
+    count = len(values)
+    if not count:
+        return []
+    scale = 10 ** decimals
+    scaled = np.rint(values * float(scale))
+    huge = ~(np.abs(scaled) < _EXACT_LIMIT)  # beyond exact integers: the shortest exact text instead
+    integers = np.where(huge, 0, scaled).astype(np.int64)
+    whole, fraction = np.divmod(np.abs(integers), scale)
+    places = np.full(count, decimals)
+    for _ in range(decimals):  # drop trailing zeros, all rows at once
+        ends_in_zero = (places > 0) & (fraction % 10 == 0)
+        if not ends_in_zero.any():
+            break
+        fraction = np.where(ends_in_zero, fraction // 10, fraction)
+        places -= ends_in_zero
+    sign = np.where(integers < 0, "-", "")
+    out = np.empty(count, dtype=object)
+    for digits in np.unique(places).tolist():
+        rows = np.flatnonzero(places == digits)
+        fmt = f"%s%d.%0{digits}d\n" if digits else "%s%d\n"
+        args = zip(sign[rows].tolist(), whole[rows].tolist(), fraction[rows].tolist()) if digits \
+            else zip(sign[rows].tolist(), whole[rows].tolist())
+        out[rows] = (fmt * len(rows) % tuple(chain.from_iterable(args))).split("\n")[:-1]
+    for row in np.flatnonzero(huge).tolist():
+        out[row] = np.format_float_positional(values[row], unique=True, trim="-")
+    return out.tolist()
+
+
+def number_texts(values: np.ndarray, name: str, source: SourceTexts | None) -> list[str]:
+    """Text of each value of field ``name``: the file's own where kept, else compact."""
+    out = compact_texts(values, FIELDS[name])
+    if name == "lon":  # a longitude just below 180 may round up to it: GPX 1.1 allows [-180, 180)
+        for row in np.flatnonzero(values > 179.9999999).tolist():
+            if out[row] == "180":
+                out[row] = "-180"
+    if source:
+        rows, texts = source.lookup(name, values)
+        for row, text in zip(rows.tolist(), texts):
+            out[row] = text
+    return out
