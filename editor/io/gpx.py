@@ -82,6 +82,8 @@ def _read_scanned(data: bytes, path: str | None) -> Document | None:
     if sum(sum(t.counts) for t in shape.tracks) != scan.count \
             or not gpx_scan.skeleton_matches(scan, root, segments):
         return None
+    if scan.waypoints is not None and reader.root_waypoint_count() != len(scan.waypoints):
+        return None  # a waypoint somewhere other than on the root (inside <extensions>, say)
     try:
         return reader.document(shape)
     except TrackFileError:

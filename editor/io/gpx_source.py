@@ -107,18 +107,22 @@ def collect(texts: dict, values: dict) -> SourceTexts:
             written = [t + "Z" for t in _time_texts(column_values)]
         else:
             written = compact_texts(column_values, decimals)
-        rows, kept = [], []
-        for row, text, same in zip(present_rows, present, written):
-            if text == same:
+        keys = column_values.view(np.int64) if decimals is None else column_values
+        kept: dict = {}  # value -> text; the first spelling of a value wins
+        valid: dict = {}  # text -> may it be written back? (texts repeat: a constant column, say)
+        for key, text, same in zip(keys.tolist(), present, written):
+            if text == same or key in kept:
                 continue
-            text = text.strip()
-            if text != same and schema.fullmatch(text) and not _leap(text, decimals):
-                rows.append(row)
-                kept.append(text)
-        if rows:
-            keys = values[name][rows]
-            found.keys[name] = keys.view(np.int64) if decimals is None else keys
-            found.texts[name] = np.array(kept, dtype=object)
+            ok = valid.get(text)
+            if ok is None:
+                stripped = text.strip()
+                ok = valid[text] = stripped != same and bool(schema.fullmatch(stripped)) \
+                    and not _leap(stripped, decimals)
+            if ok:
+                kept[key] = text.strip()
+        if kept:
+            found.keys[name] = np.array(list(kept), dtype=np.int64 if decimals is None else np.float64)
+            found.texts[name] = np.array(list(kept.values()), dtype=object)
     return SourceTexts.merge([found])  # sorted, one text per value
 
 

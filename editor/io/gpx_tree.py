@@ -27,7 +27,7 @@ from lxml import etree
 
 from ..model import ALL_COLUMNS, Document, PointTable, Route, Track
 from .errors import TrackFileError
-from .gpx_scan import PLACEHOLDER
+from .gpx_scan import PLACEHOLDER, WAYPOINT_PLACEHOLDER
 from .gpx_source import SourceTexts
 from .gpx_values import PointTexts, ReadNotes, ValueProblem, build_table, segments_out_of_order, time_order_warnings
 from .gpx_xml import (CONTAINER_SLOTS, GPX10, GPX11, GPX11_XSD, POINT_FIELDS, POINT_SLOTS, XSI,
@@ -121,6 +121,11 @@ class TreeReader:
                                     metadata, "".join(extensions) if extensions else None,
                                     "1.0" if self.v10 else "1.1")
         return shape
+
+    def root_waypoint_count(self) -> int:
+        """Waypoint placeholders at the root's level of a skeleton (in its text and its children's tails)."""
+        texts = [self.root.text or ""] + [child.tail or "" for child in self.root]
+        return sum(text.count(WAYPOINT_PLACEHOLDER) for text in texts)
 
     def root_attributes(self) -> tuple[tuple[str, str], ...]:
         kept = []
@@ -264,7 +269,10 @@ class TreeReader:
         doc = Document(extra=shape.extra, source_path=self.path)
         first = 0
         placed = []  # file-wide index of each track's row 0
-        doc.waypoints, notes = self.table(lambda: shape.waypoints, lambda i: f"waypoint {i + 1}")
+        if self.scan is not None and self.scan.waypoints is not None:
+            doc.waypoints, notes = self.scan.waypoints, ReadNotes()
+        else:
+            doc.waypoints, notes = self.table(lambda: shape.waypoints, lambda i: f"waypoint {i + 1}")
         for r, route in enumerate(shape.routes):
             points, count = self.table(lambda: list(route.element.iterchildren(self.prefix + "rtept")),
                                        lambda i, r=r: f"route {r + 1}, point {i + 1}")
