@@ -27,6 +27,12 @@ emits them in schema order::
     [after_name: cmt desc src link* sym type fix] sat hdop vdop pdop
     [after_pdop: ageofdgpsdata dgpsid] <extensions>[extensions]</extensions>
 
+GPX 1.0 per-point ``<speed>`` (metres per second) and ``<course>`` (degrees
+clockwise from true north), which GPX 1.1 dropped, are kept inside
+``<extensions>`` as ``<tw:speed>`` and ``<tw:course>`` with the text the file
+had; :func:`recorded_motion` reads them back as numbers, from a GPX 1.0 file
+or from a GPX 1.1 file we wrote.
+
 Points added by a tool (gap filling) are marked inside ``<extensions>`` with an
 element of our own namespace, ``<tw:inserted how="gap-fill"/>`` where ``tw`` is
 ``urn:x-trackwright:gpx:1``. The marker carries its own namespace declaration
@@ -35,6 +41,7 @@ Trackwright writes it.
 """
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -44,6 +51,8 @@ from lxml import etree
 TW_NS = "urn:x-trackwright:gpx:1"
 TW_PREFIX = "tw"
 _MARKER_START = f'<{TW_PREFIX}:inserted xmlns:{TW_PREFIX}="{TW_NS}"'
+_MOTION = re.compile(rf'<{TW_PREFIX}:(speed|course) xmlns:{TW_PREFIX}="{re.escape(TW_NS)}">\s*([^<]*?)\s*'
+                     rf'</{TW_PREFIX}:\1>')
 
 
 @dataclass(frozen=True)
@@ -172,3 +181,21 @@ def strip_marker(payload):
         return payload
     kept = _without_marker(extensions_of(payload))
     return _with_extensions(payload, kept or None)
+
+
+def recorded_motion(payload) -> tuple[float, float]:
+    """``(speed m/s, course degrees)`` a GPX 1.0 point recorded, NaN where absent or not a number.
+
+    Recognises the form the reader gives GPX 1.0 ``<speed>``/``<course>``
+    (``<tw:speed xmlns:tw="urn:x-trackwright:gpx:1">4.25</tw:speed>``), which the
+    writer puts in the point's ``<extensions>`` and reading our GPX 1.1 gives back.
+    """
+    found = {"speed": float("nan"), "course": float("nan")}
+    extensions = extensions_of(payload)
+    if extensions and f"{TW_PREFIX}:" in extensions:
+        for name, text in _MOTION.findall(extensions):
+            try:
+                found[name] = float(text)
+            except ValueError:
+                pass
+    return found["speed"], found["course"]

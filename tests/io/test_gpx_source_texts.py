@@ -96,3 +96,30 @@ def test_a_leap_second_is_read_as_the_last_instant_of_its_minute(text, value, re
     written = gpx_bytes(doc).decode()
     gpx_schema.validate(written)  # 23:59:60 is not an xsd:dateTime: the read instant is written
     assert f"<time>{value}Z</time>" in written
+
+
+GPX10 = """<?xml version="1.0" encoding="UTF-8"?>
+<gpx xmlns="http://www.topografix.com/GPX/1/0" version="1.0" creator="device">
+  <trk><trkseg>
+    <trkpt lat="46.5" lon="6.6"><ele>512.40</ele><time>2007-11-25T17:58:00+01:00</time><course>87.50</course><speed>4.25</speed></trkpt>
+    <trkpt lat="46.6" lon="6.7"><speed>0</speed></trkpt>
+  </trkseg></trk>
+</gpx>
+"""
+
+
+def test_gpx10_speed_and_course_survive_conversion_and_read_back(read_path, gpx_schema):
+    """GPX 1.0 (Topografix 2002) has per-point speed (m/s) and course (degrees); GPX 1.1 has neither,
+    so they go into our namespace, with the file's text, and read back as the same numbers."""
+    from editor.io.payload import recorded_motion
+
+    doc = read_gpx_bytes(GPX10.encode())
+    written = gpx_bytes(doc).decode()
+    gpx_schema.validate(written)
+    assert '<tw:course xmlns:tw="urn:x-trackwright:gpx:1">87.50</tw:course>' in written
+    assert "<time>2007-11-25T17:58:00+01:00</time>" in written and "<ele>512.40</ele>" in written
+    again = read_gpx_bytes(written.encode())
+    assert again.equals(doc)
+    motion = [recorded_motion(p) for p in again.tracks[0].points.extra]
+    assert motion[0] == (4.25, 87.5) and motion[1][0] == 0.0 and np.isnan(motion[1][1])
+    assert gpx_bytes(again).decode() == written  # a second conversion changes nothing
