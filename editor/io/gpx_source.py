@@ -26,8 +26,8 @@ values are written in the compact form.
 from __future__ import annotations
 
 import re
+from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Sequence
 
 import numpy as np
 
@@ -66,7 +66,7 @@ class SourceTexts:
         return rows, [texts[i] for i in index[rows].tolist()]
 
     @staticmethod
-    def merge(parts: Sequence["SourceTexts"]) -> "SourceTexts":
+    def merge(parts: Sequence[SourceTexts]) -> SourceTexts:
         """One lookup from the pieces of several point runs (the first text of a value wins)."""
         merged = SourceTexts()
         for name in FIELDS:
@@ -127,7 +127,9 @@ def collect(texts: dict, values: dict) -> SourceTexts:
 
 
 def _time_texts(times: np.ndarray) -> list[str]:
-    from .gpx_format import time_texts  # the writer's own spelling; imported late (it imports this module)
+    from .gpx_format import (
+        time_texts,  # the writer's own spelling; imported late (it imports this module)
+    )
 
     return time_texts(times)
 

@@ -115,7 +115,7 @@ def sat_column(texts: Sequence[str | None]) -> np.ndarray:
     return values
 
 
-def time_column(texts: Sequence[str | None], notes: "ReadNotes | None" = None) -> np.ndarray:
+def time_column(texts: Sequence[str | None], notes: ReadNotes | None = None) -> np.ndarray:
     """UTC times (datetime64[ns], NaT where absent); counts odd times in ``notes``.
 
     Offsets such as ``+02:00`` are converted to UTC; a time without a zone is
@@ -188,7 +188,7 @@ class ReadNotes:
     #: :class:`~editor.io.gpx_source.SourceTexts` of each run of points read
     sources: list = field(default_factory=list)
 
-    def add(self, other: "ReadNotes") -> None:
+    def add(self, other: ReadNotes) -> None:
         self.without_zone += other.without_zone
         self.leap_seconds += other.leap_seconds
         self.sources += other.sources

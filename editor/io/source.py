@@ -16,7 +16,7 @@ from __future__ import annotations
 import errno
 import os
 import stat
-from typing import Callable
+from collections.abc import Callable
 
 from .errors import TrackFileError
 

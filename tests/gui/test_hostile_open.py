@@ -10,7 +10,7 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
-from tests.io.hostile_inputs import hostile_cases  # noqa: E402
+from tests.io.hostile_inputs import hostile_cases
 
 
 def test_the_window_opens_or_refuses_every_hostile_input(window, dialogs, tmp_path):

@@ -29,7 +29,7 @@ def _base(n: int = 30) -> str:
 
 def _named() -> list[tuple[str, bytes]]:
     base = _base()
-    one = lambda value, field="ele": _track(_point(0) + _point(1).replace(  # noqa: E731
+    one = lambda value, field="ele": _track(_point(0) + _point(1).replace(
         f"<{field}>{500 + 1}</{field}>" if field == "ele" else "<time>2026-05-01T06:00:01Z</time>",
         f"<{field}>{value}</{field}>"))
     cases = {
@@ -94,7 +94,7 @@ def _named() -> list[tuple[str, bytes]]:
         "huge-attribute": _track(f'<trkpt lat="1" lon="2"><extensions><x a="{"y" * 11_000_000}" '
                                  'xmlns="urn:x"/></extensions></trkpt>'),
         "long-name": _track(f'<trkpt lat="1" lon="2"><name>{"n" * 200_000}</name></trkpt>'),
-        "placeholder-char": _track(f'<trkpt lat="1" lon="2"><name>\ue000\ue001</name></trkpt>'),
+        "placeholder-char": _track('<trkpt lat="1" lon="2"><name>\ue000\ue001</name></trkpt>'),
         "cut-mid-point": base[: base.index("<trkpt", 2000) + 20],
         "cut-mid-tag": base[:-20], "cut-after-root": base[: base.index("<trk>")],
         "two-roots": base + base,

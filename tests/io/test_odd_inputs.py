@@ -22,7 +22,7 @@ HANG_GUARD_S = 60
 def run_cli(*args, cwd=None):
     env = dict(os.environ, PYTHONPATH=str(ROOT))
     return subprocess.run([sys.executable, "-m", "editor", *map(str, args)], capture_output=True, text=True,
-                          timeout=HANG_GUARD_S, env=env, cwd=cwd)
+                          timeout=HANG_GUARD_S, env=env, cwd=cwd, check=False)
 
 
 def one_clear_line(result, *words):

@@ -10,8 +10,8 @@ import pytest
 
 from editor.model import Document, PointTable, Track
 from editor.processing.pipeline import CleanParams, clean_document
-from editor.processing.spikes import SpikeParams, despike
 from editor.processing.smoothing import SmoothParams, smooth
+from editor.processing.spikes import SpikeParams, despike
 
 STEPS = ("despike", "fill_gaps", "collapse_stops", "smooth")
 
