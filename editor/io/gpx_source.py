@@ -36,10 +36,14 @@ ELEVATION_DECIMALS = 2
 #: Fields whose file text is kept; their decimals when written compactly (``None``: a time).
 FIELDS = {"lat": COORDINATE_DECIMALS, "lon": COORDINATE_DECIMALS, "ele": ELEVATION_DECIMALS, "time": None}
 
-_COMPACT = {d: re.compile(rf"(?:(?:0|-?(?:0\.\d{{0,{d - 1}}}[1-9]|[1-9]\d*(?:\.\d{{0,{d - 1}}}[1-9])?))\n)*")
+# The compact form: what the writer writes for a value (no sign but "-", no leading or trailing
+# zeros, at most d decimals; times in UTC with "Z" and no trailing zeros in the fraction).
+_COMPACT = {d: rf"(?:0|-?(?:0\.\d{{0,{d - 1}}}[1-9]|[1-9]\d*(?:\.\d{{0,{d - 1}}}[1-9])?))"
             for d in (COORDINATE_DECIMALS, ELEVATION_DECIMALS)}
+_COMPACT[None] = r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(?:\.\d{0,8}[1-9])?Z"
+#: A line of a joined column that is not in compact form.
+_NOT_COMPACT = {d: re.compile(rf"^(?!{pattern}$).*$", re.MULTILINE) for d, pattern in _COMPACT.items()}
 _DECIMAL = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)")  # xsd:decimal
-_COMPACT_TIME = re.compile(r"(?:\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(?:\.\d{0,8}[1-9])?Z\n)*")
 _SCHEMA_TIME = re.compile(r"-?\d{4,}-\d\d-\d\dT\d\d:\d\d:[0-5]\d(?:\.\d+)?(?:Z|[+-]\d\d:\d\d)?")  # xsd:dateTime
 _EXACT_LIMIT = 2.0 ** 53
 
@@ -87,7 +91,10 @@ def collect(texts: dict, values: dict) -> SourceTexts:
     """The texts of one run of points that the compact form would not reproduce.
 
     ``texts[name]`` is the column of texts as read (``None`` where absent),
-    ``values[name]`` the converted column.
+    ``values[name]`` the converted column. One regular-expression pass over
+    the joined column finds the texts not in compact form (the compact form is
+    exactly what the writer writes for a value), so the usual file, whose texts
+    all are, costs one pass per column.
     """
     found = SourceTexts()
     for name, decimals in FIELDS.items():
@@ -95,43 +102,25 @@ def collect(texts: dict, values: dict) -> SourceTexts:
         present = [t for t in column if t]
         if not present:
             continue
-        compact = _COMPACT_TIME if decimals is None else _COMPACT[decimals]
-        if compact.fullmatch("\n".join(present) + "\n"):
-            continue  # the usual file: every text is already what the writer would write
+        rows = range(len(column)) if len(present) == len(column) else [r for r, t in enumerate(column) if t]
+        joined = "\n".join(present)
+        if joined.count("\n") != len(present) - 1:  # a text spread over lines: one line per text
+            joined = "\n".join(t.replace("\n", " ") for t in present)
         schema = _SCHEMA_TIME if decimals is None else _DECIMAL
-        # the written form of every present value, compared text by text (a regular expression
-        # per text cost three times as much)
-        present_rows = [row for row, text in enumerate(column) if text]
-        column_values = values[name][present_rows]
-        if decimals is None:
-            written = [t + "Z" for t in _time_texts(column_values)]
-        else:
-            written = compact_texts(column_values, decimals)
-        keys = column_values.view(np.int64) if decimals is None else column_values
         kept: dict = {}  # value -> text; the first spelling of a value wins
-        valid: dict = {}  # text -> may it be written back? (texts repeat: a constant column, say)
-        for key, text, same in zip(keys.tolist(), present, written):
-            if text == same or key in kept:
-                continue
-            ok = valid.get(text)
-            if ok is None:
-                stripped = text.strip()
-                ok = valid[text] = stripped != same and bool(schema.fullmatch(stripped)) \
-                    and not _leap(stripped, decimals)
-            if ok:
-                kept[key] = text.strip()
+        keys = values[name].view(np.int64) if decimals is None else values[name]
+        row, searched = 0, 0
+        for match in _NOT_COMPACT[decimals].finditer(joined):
+            row += joined.count("\n", searched, match.start())
+            searched = match.start()
+            text = match.group().strip()
+            key = keys[rows[row]].item()
+            if key not in kept and schema.fullmatch(text) and not _leap(text, decimals):
+                kept[key] = text
         if kept:
             found.keys[name] = np.array(list(kept), dtype=np.int64 if decimals is None else np.float64)
             found.texts[name] = np.array(list(kept.values()), dtype=object)
     return SourceTexts.merge([found])  # sorted, one text per value
-
-
-def _time_texts(times: np.ndarray) -> list[str]:
-    from .gpx_format import (
-        time_texts,  # the writer's own spelling; imported late (it imports this module)
-    )
-
-    return time_texts(times)
 
 
 def _leap(text: str, decimals) -> bool:

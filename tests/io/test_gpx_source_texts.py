@@ -123,3 +123,9 @@ def test_gpx10_speed_and_course_survive_conversion_and_read_back(read_path, gpx_
     motion = [recorded_motion(p) for p in again.tracks[0].points.extra]
     assert motion[0] == (4.25, 87.5) and motion[1][0] == 0.0 and np.isnan(motion[1][1])
     assert gpx_bytes(again).decode() == written  # a second conversion changes nothing
+
+
+def test_texts_spread_over_lines_are_matched_to_their_own_points(read_path):
+    gpx = ODD.replace("<ele>512.40</ele>", "<ele>\n  512.40\n</ele>")
+    written = gpx_bytes(read_gpx_bytes(gpx.encode())).decode()
+    assert texts(written) == texts(ODD)  # kept, stripped of the whitespace around it
