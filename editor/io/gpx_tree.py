@@ -143,7 +143,12 @@ class TreeReader:
     def container(self, element, child_local: str):
         """Name, opaque extra and child elements (trkseg/rtept) of a trk or rte."""
         name, slots, extensions, children, urls = None, [], None, [], {}
+        child_tag = self.prefix + child_local
         for child in element:
+            if child.tag == child_tag:  # the usual child, found without splitting its name
+                if child_local == "trkseg":
+                    children.append(child)
+                continue
             if not isinstance(child.tag, str):
                 continue
             ns, local = local_name(child)
