@@ -34,12 +34,13 @@ import numpy as np
 COORDINATE_DECIMALS = 7
 ELEVATION_DECIMALS = 2
 #: Fields whose file text is kept; their decimals when written compactly (``None``: a time).
-FIELDS = {"lat": COORDINATE_DECIMALS, "lon": COORDINATE_DECIMALS, "ele": ELEVATION_DECIMALS, "time": None}
+FIELDS: dict[str, int | None] = {"lat": COORDINATE_DECIMALS, "lon": COORDINATE_DECIMALS, "ele": ELEVATION_DECIMALS, "time": None}
 
 # The compact form: what the writer writes for a value (no sign but "-", no leading or trailing
 # zeros, at most d decimals; times in UTC with "Z" and no trailing zeros in the fraction).
-_COMPACT = {d: rf"(?:0|-?(?:0\.\d{{0,{d - 1}}}[1-9]|[1-9]\d*(?:\.\d{{0,{d - 1}}}[1-9])?))"
-            for d in (COORDINATE_DECIMALS, ELEVATION_DECIMALS)}
+_COMPACT: dict[int | None, str] = {
+    d: rf"(?:0|-?(?:0\.\d{{0,{d - 1}}}[1-9]|[1-9]\d*(?:\.\d{{0,{d - 1}}}[1-9])?))"
+    for d in (COORDINATE_DECIMALS, ELEVATION_DECIMALS)}
 _COMPACT[None] = r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(?:\.\d{0,8}[1-9])?Z"
 #: A line of a joined column that is not in compact form.
 _NOT_COMPACT = {d: re.compile(rf"^(?!{pattern}$).*$", re.MULTILINE) for d, pattern in _COMPACT.items()}
@@ -74,11 +75,11 @@ class SourceTexts:
         """One lookup from the pieces of several point runs (the first text of a value wins)."""
         merged = SourceTexts()
         for name in FIELDS:
-            keys = [p.keys[name] for p in parts if name in p.keys and len(p.keys[name])]
-            if not keys:
+            pieces = [p for p in parts if name in p.keys and len(p.keys[name])]
+            if not pieces:
                 continue
-            texts = np.concatenate([p.texts[name] for p in parts if name in p.keys and len(p.keys[name])])
-            keys = np.concatenate(keys)
+            texts = np.concatenate([p.texts[name] for p in pieces])
+            keys = np.concatenate([p.keys[name] for p in pieces])
             order = np.argsort(keys, kind="stable")
             keys, texts = keys[order], texts[order]
             first = np.ones(len(keys), dtype=bool)
@@ -155,7 +156,9 @@ def compact_texts(values: np.ndarray, decimals: int) -> list[str]:
 
 def number_texts(values: np.ndarray, name: str, source: SourceTexts | None) -> list[str]:
     """Text of each value of field ``name``: the file's own where kept, else compact."""
-    out = compact_texts(values, FIELDS[name])
+    decimals = FIELDS[name]
+    assert decimals is not None, "times are written by PointFormat.time"
+    out = compact_texts(values, decimals)
     if name == "lon":  # a longitude just below 180 may round up to it: GPX 1.1 allows [-180, 180)
         for row in np.flatnonzero(values > 179.9999999).tolist():
             if out[row] == "180":
