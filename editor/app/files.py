@@ -106,8 +106,13 @@ class FileController:
         if not target.exists():
             return True
         is_original = self.session.is_original(target)
-        text = (f"{target.name} is the file you opened. Replacing it loses the original recording.\n\n"
-                "Replace the original anyway?" if is_original else f"{target.name} already exists. Replace it?")
+        if is_original:
+            from ..io.save import next_backup_name
+
+            text = (f"{target.name} is the file you opened. Saving over it replaces the original recording; "
+                    f"the original is kept as a backup:\n{next_backup_name(target)}\n\nReplace the original?")
+        else:
+            text = f"{target.name} already exists. Replace it?"
         answer = QtWidgets.QMessageBox.warning(
             self.window, "Replace file?", text,
             QtWidgets.QMessageBox.StandardButton.Yes | QtWidgets.QMessageBox.StandardButton.Cancel,

@@ -13,7 +13,8 @@ unless ``--simplify METRES``; elevation is kept to the same number of metres
 unless ``--simplify-vertical`` says otherwise, so climb totals survive). Everything the steps do not touch is kept:
 waypoints, routes, metadata and extensions.
 
-An input is never overwritten, and an existing output only with ``--overwrite``.
+An input is never overwritten, and an existing output only with ``--overwrite``
+(the replaced file is then kept as ``OUT.bak``).
 Output files are written atomically. Exit status: 0 when every file was cleaned,
 2 when an input could not be read or an output not written (the other files
 are still done) or the command line is wrong.
@@ -26,7 +27,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any, Callable, TextIO
 
 from ..io.errors import TrackFileError
-from ..io.save import same_file
+from ..io.save import check_target, same_file
 
 if TYPE_CHECKING:
     from ..processing.descriptor import CliOption, ToolDescriptor
@@ -150,8 +151,7 @@ def plan_outputs(inputs: list[Path], output: Path | None, output_dir: Path | Non
         for src in inputs:
             if same_file(src, dst):
                 raise TrackFileError(dst, "refusing to overwrite an input file; choose another output name")
-        if dst.exists() and not overwrite:
-            raise TrackFileError(dst, "already exists; pass --overwrite to replace it")
+        check_target(dst, overwrite)
     return outputs
 
 
@@ -203,7 +203,7 @@ def cmd_clean(args: argparse.Namespace) -> int:
 
             cleaned, report = clean_document(doc, params, progress=step, inserted_marker=GAP_FILL_MARKER)
             bar(0.92, "writing")
-            write_document(cleaned, dst)
+            write_document(cleaned, dst, backup=args.overwrite)
             bar(1.0, "done")
         except TrackFileError as err:
             bar.close()

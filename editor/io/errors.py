@@ -13,7 +13,8 @@ class TrackFileError(Exception):
     line : 1-based line in the file where the problem was found, or ``None``.
     problem : what is wrong, in words for the user.
 
-    ``str(error)`` is one line: ``"FILE, line N: problem"``.
+    ``str(error)`` is one line: ``"FILE, line N: problem"``; line breaks and
+    other control characters in the file's name are shown escaped (``\\n``).
     """
 
     def __init__(self, path: str | os.PathLike | None, problem: str, line: int | None = None) -> None:
@@ -23,4 +24,11 @@ class TrackFileError(Exception):
         where = self.path or "<data>"
         if line is not None:
             where += f", line {line}"
-        super().__init__(f"{where}: {problem}")
+        super().__init__(one_line(f"{where}: {problem}"))
+
+
+def one_line(text: str) -> str:
+    """``text`` with control characters escaped, so a message stays on one line."""
+    if text.isprintable():
+        return text
+    return "".join(ch if ch.isprintable() else repr(ch)[1:-1] for ch in text)

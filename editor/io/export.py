@@ -136,13 +136,14 @@ def _blank(values: np.ndarray) -> list:
 _FORMATS = {".gpx": gpx_bytes, ".geojson": geojson_bytes, ".json": geojson_bytes, ".csv": csv_bytes}
 
 
-def write_document(doc: Document, path: str | os.PathLike, *, backup: bool | None = None) -> None:
+def write_document(doc: Document, path: str | os.PathLike, *, backup: bool | None = None) -> Path | None:
     """Save ``doc`` in the format named by the extension of ``path``, atomically.
 
     ``.gpx``: GPX 1.1; ``.geojson`` or ``.json``: GeoJSON; ``.csv``: CSV.
 
     ``backup=None`` keeps a backup exactly when ``path`` is the file the
-    document was read from (see :func:`editor.io.save.atomic_write`).
+    document was read from (see :func:`editor.io.save.atomic_write`). Returns
+    the backup's path, or ``None`` when none was made.
     """
     suffix = Path(path).suffix.lower()
     if suffix not in _FORMATS:
@@ -151,4 +152,4 @@ def write_document(doc: Document, path: str | os.PathLike, *, backup: bool | Non
     data = gpx_chunks(doc, path) if suffix == ".gpx" else _FORMATS[suffix](doc)
     if backup is None:
         backup = same_file(path, doc.source_path)
-    atomic_write(path, data, backup=backup)
+    return atomic_write(path, data, backup=backup)

@@ -27,6 +27,12 @@ emits them in schema order::
     [after_name: cmt desc src link* sym type fix] sat hdop vdop pdop
     [after_pdop: ageofdgpsdata dgpsid] <extensions>[extensions]</extensions>
 
+GPX 1.0 per-point ``<speed>`` (metres per second) and ``<course>`` (degrees
+clockwise from true north), which GPX 1.1 dropped, are kept inside
+``<extensions>`` as ``<tw:speed>`` and ``<tw:course>`` with the text the file
+had; :func:`recorded_motion` reads them back as numbers, from a GPX 1.0 file
+or from a GPX 1.1 file we wrote.
+
 Points added by a tool (gap filling) are marked inside ``<extensions>`` with an
 element of our own namespace, ``<tw:inserted how="gap-fill"/>`` where ``tw`` is
 ``urn:x-trackwright:gpx:1``. The marker carries its own namespace declaration
@@ -35,6 +41,7 @@ Trackwright writes it.
 """
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -44,6 +51,8 @@ from lxml import etree
 TW_NS = "urn:x-trackwright:gpx:1"
 TW_PREFIX = "tw"
 _MARKER_START = f'<{TW_PREFIX}:inserted xmlns:{TW_PREFIX}="{TW_NS}"'
+_MOTION = re.compile(rf'<{TW_PREFIX}:(speed|course) xmlns:{TW_PREFIX}="{re.escape(TW_NS)}">\s*([^<]*?)\s*'
+                     rf'</{TW_PREFIX}:\1>')
 
 
 @dataclass(frozen=True)
@@ -90,6 +99,9 @@ class DocumentExtra:
     extensions : inner XML of the root ``<extensions>``, or ``None``.
     source_version : GPX version the file was read as (``"1.1"`` or ``"1.0"``);
         informative only (not compared): the writer always writes 1.1.
+    source_texts : the file's own text of point values that the writer's compact
+        form would not reproduce (a :class:`editor.io.gpx.source_texts.SourceTexts`),
+        or ``None``; not compared (it describes the file, not the content).
     """
 
     namespaces: tuple[tuple[str, str], ...] = ()
@@ -98,6 +110,7 @@ class DocumentExtra:
     metadata: str | None = None
     extensions: str | None = None
     source_version: str = field(default="1.1", compare=False)
+    source_texts: object = field(default=None, compare=False, repr=False)
 
 
 def point_extra(after_time: str = "", after_name: str = "", after_pdop: str = "",
@@ -173,3 +186,21 @@ def strip_marker(payload):
         return payload
     kept = _without_marker(extensions_of(payload))
     return _with_extensions(payload, kept or None)
+
+
+def recorded_motion(payload) -> tuple[float, float]:
+    """``(speed m/s, course degrees)`` a GPX 1.0 point recorded, NaN where absent or not a number.
+
+    Recognises the form the reader gives GPX 1.0 ``<speed>``/``<course>``
+    (``<tw:speed xmlns:tw="urn:x-trackwright:gpx:1">4.25</tw:speed>``), which the
+    writer puts in the point's ``<extensions>`` and reading our GPX 1.1 gives back.
+    """
+    found = {"speed": float("nan"), "course": float("nan")}
+    extensions = extensions_of(payload)
+    if extensions and f"{TW_PREFIX}:" in extensions:
+        for name, text in _MOTION.findall(extensions):
+            try:
+                found[name] = float(text)
+            except ValueError:
+                pass
+    return found["speed"], found["course"]

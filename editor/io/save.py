@@ -17,7 +17,10 @@ is a hard link to the old file where the file system allows (instant, no extra
 space), otherwise a copy.
 
 A symbolic link as target is followed: the file it points to is replaced and
-the link stays. A replaced file keeps its permission bits.
+the link stays. A replaced file keeps its permission bits. A target that is
+write-protected (no write bit, or not writable by this user), a folder, a
+device or a named pipe is refused (:func:`refuse_target`): a rename would
+replace it whatever its mode.
 """
 from __future__ import annotations
 
@@ -125,8 +128,7 @@ def atomic_write(path: str | os.PathLike, data: bytes | Iterable[bytes], backup:
     """
     target = Path(os.path.realpath(path))
     folder = target.parent
-    if target.is_dir():
-        raise TrackFileError(path, "is a folder, not a file; nothing was written")
+    refuse_target(path, target)
     step = f"could not create a temporary file in {folder}"
     temp = made_backup = None
     try:
@@ -166,14 +168,57 @@ def _remove_quietly(path: Path | None) -> None:
 
 
 def same_file(a: str | os.PathLike | None, b: str | os.PathLike | None) -> bool:
-    """Do ``a`` and ``b`` name one file: the same path once resolved, or one existing file under two
-    names (a link)? Either may be ``None`` (never the same). The one check used before any write."""
+    """Do ``a`` and ``b`` name one file: the same path once links are followed, or one existing file
+    under two names (a hard link)? Either may be ``None`` (never the same). Never raises: a
+    symbolic-link loop is simply not the other file. The one check used before any write."""
     if a is None or b is None:
         return False
     try:
-        return Path(a).resolve() == Path(b).resolve() or os.path.samefile(a, b)
-    except OSError:
+        return os.path.realpath(a) == os.path.realpath(b) or os.path.samefile(a, b)
+    except (OSError, ValueError):
         return False
+
+
+def write_protected(mode: int) -> bool:
+    """No write permission bit at all (which even the superuser should respect for a save)."""
+    return not mode & (stat.S_IWUSR | stat.S_IWGRP | stat.S_IWOTH)
+
+
+def refuse_target(path: str | os.PathLike, target: Path | None = None) -> None:
+    """Raise :class:`TrackFileError` if ``path`` exists and is not an ordinary, writable file.
+
+    A rename replaces whatever the name points to, ignoring its mode bits, so
+    a write-protected file or a device would otherwise be replaced silently.
+    """
+    target = Path(os.path.realpath(path)) if target is None else target
+    try:
+        info = os.stat(target)
+    except OSError:
+        return  # missing (it will be created); other problems surface when writing
+    if stat.S_ISDIR(info.st_mode):
+        raise TrackFileError(path, "is a folder, not a file; nothing was written")
+    if not stat.S_ISREG(info.st_mode):
+        from .source import kind_of
+
+        raise TrackFileError(path, f"is {kind_of(info.st_mode)}, not an ordinary file; nothing was written")
+    if write_protected(info.st_mode) or not os.access(target, os.W_OK):
+        raise TrackFileError(path, "is write-protected; nothing was written (remove the protection "
+                                   "or choose another name)")
+
+
+def check_target(path: str | os.PathLike, overwrite: bool) -> None:
+    """The command line's rule for an output: an existing file is replaced only with ``overwrite``."""
+    if os.path.lexists(path) and not overwrite:
+        raise TrackFileError(path, "already exists; pass --overwrite to replace it (the old file is then "
+                                   "kept as a .bak)")
+    refuse_target(path)
+
+
+def next_backup_name(path: str | os.PathLike) -> Path:
+    """The name the next backup of ``path`` will get (see the module notes)."""
+    target = Path(os.path.realpath(path))
+    return target.with_name(target.name + (f".bak.{len(backup_names(target))}" if backup_names(target)
+                                           else ".bak"))
 
 
 def leftover_temp_files(path: str | os.PathLike) -> list[Path]:

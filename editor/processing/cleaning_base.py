@@ -108,13 +108,27 @@ def chi2_quantile(confidence: float, dof: int) -> float:
 
 
 def timed_segments(track: PlanarTrack, min_points: int = 3) -> list[tuple[int, int]]:
-    """Segments the time-based tools can work on: enough points, every time present and non-decreasing."""
+    """Segments the time-based tools can work on: enough points, every time present and non-decreasing,
+    and time actually advancing: more than half of the steps take time.
+
+    A recording whose timestamps are all equal (or mostly equal) carries no timing: speeds over its
+    zero-second steps are infinite, and spike removal once collapsed such a track to one point. Such
+    segments are treated as untimed and left to the tools that need no times.
+    """
     out = []
     for a, b in track.bounds:
         t = track.t_s[a:b]
-        if b - a >= min_points and np.isfinite(t).all() and not (np.diff(t) < 0).any():
+        if b - a < min_points or not np.isfinite(t).all():
+            continue
+        if times_advance(t):
             out.append((a, b))
     return out
+
+
+def times_advance(t: np.ndarray) -> bool:
+    """Do these (present) times never go back and advance on more than half of the steps?"""
+    steps = np.diff(t)
+    return not (steps < 0).any() and np.count_nonzero(steps > 0) * 2 > len(steps)
 
 
 #: Window (seconds) of the speeds used to infer an activity: long enough to average out jitter.
@@ -253,5 +267,6 @@ def values_proposal(tool: str, label: str, track_index: int, track: Track, colum
 
 
 __all__ = ["PlanarTrack", "planar", "plane_of", "replan", "chi2_quantile", "activity_for", "timed_segments",
+           "times_advance",
            "selection_mask", "true_runs", "window_means", "window_speed", "noise_sigma", "keep_proposal",
            "values_proposal", "unchanged_proposal", "MAD_TO_SIGMA"]

@@ -22,8 +22,9 @@ values of 0 or 99 that some loggers write for "unknown".
 
 Missing timestamps
 ------------------
-The model needs a time per point. A segment without usable times (none, or
-times that go backwards) is indexed by distance instead: its "time" is the
+The model needs a time per point. A segment without usable times (none, times
+that go backwards, or times that do not advance on most steps, such as a
+recording whose timestamps are all equal) is indexed by distance instead: its "time" is the
 cumulative planar distance along the raw points divided by
 :data:`NOMINAL_SPEED_MPS`, so ``q`` acts per metre instead of per second and no
 speeds are reported for it (``info["segments_indexed_by_distance"]``). Single
@@ -40,6 +41,7 @@ import numpy as np
 from .. import CAUTION
 from ..geo.projection import LocalProjection
 from ..model.document import Track
+from .cleaning_base import times_advance
 from .kalman import Problem
 from .proposal import Proposal, make_proposal
 from .scalar_search import most_likely
@@ -156,7 +158,9 @@ def _segment_times(t: np.ndarray, x: np.ndarray, y: np.ndarray) -> np.ndarray | 
     """Times for one segment, missing ones filled along the distance; None if unusable."""
     known = np.isfinite(t)
     if known.all():
-        return t if not np.any(np.diff(t) < 0) else None
+        # times that do not advance (all equal, say) would put every point at one instant and
+        # collapse the segment onto one spot: index it by distance instead
+        return t if len(t) < 2 or times_advance(t) else None
     if known.sum() < 2:
         return None
     dist = np.concatenate(([0.0], np.cumsum(np.hypot(np.diff(x), np.diff(y)))))

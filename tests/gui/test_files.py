@@ -201,3 +201,18 @@ def test_about_box_carries_the_caution(window, dialogs):
     kind, text = dialogs.asked[-1]
     assert kind == "about"
     assert "estimates" in text and "not for navigation" in text
+
+
+def test_replacing_the_original_names_the_backup_it_keeps(window, dialogs, ride_copy):
+    """Issue 8, §2: the prompt said the original is lost although a backup is kept; it names the backup."""
+    original = ride_copy.read_bytes()
+    window.files.open_path(ride_copy)
+    window.state.set_selection([10])
+    window.editing.delete_selection()
+    dialogs.save_path = str(ride_copy)
+    dialogs.warning_answer = QtWidgets.QMessageBox.StandardButton.Yes
+    assert window.files.save_cleaned_copy()
+    backup = ride_copy.with_name(ride_copy.name + ".bak")
+    asked = dialogs.asked[-1][1]
+    assert str(backup) in asked and "loses" not in asked
+    assert backup.read_bytes() == original

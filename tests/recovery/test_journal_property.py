@@ -28,8 +28,8 @@ from tests.recovery.stack_model import StackModel
 PARAMS = {
     "smooth": lambda s: SmoothParams(horizontal_strength=float(s % 100), vertical_strength=float((s * 7) % 100)),
     "despike": lambda s: SpikeParams(),
-    "gaps": lambda s: GapParams(long_gap="split" if s % 2 else "leave"),
-    "stops": lambda s: StopParams(),
+    "fill_gaps": lambda s: GapParams(long_gap="split" if s % 2 else "leave"),
+    "collapse_stops": lambda s: StopParams(),
     "simplify": lambda s: SimplifyParams(tolerance_m=1.0 + s % 20),
 }
 PAYLOADS = [None, "", "<hr:hr>77</hr:hr>",  # as the reader gives it: hr is declared on the root

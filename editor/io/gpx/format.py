@@ -5,13 +5,15 @@ points: each column contributes a piece of the per-point format and one or
 more argument lists, computed with numpy. This keeps writing at a fraction of
 a microsecond per value.
 
-Numbers are exact: a column whose values all have at most 9 decimals is
-written as fixed-point integers (``"%d.%07d"``) after checking that the
-written decimal reads back to the same float (IEEE division of the integer by
-10**k is correctly rounded, so ``rint(v*10**k)/10**k == v`` is that check);
-other values are written with ``repr``, the shortest text that reads back
-exactly, turned positional where ``repr`` would use an exponent (xsd:decimal
-has none).
+Latitude, longitude, elevation and time are written with the file's own text
+where the value is unchanged, and compactly otherwise (about 1 cm; see
+:mod:`editor.io.gpx.source_texts`). The other numbers (hdop, vdop, pdop, sat) are
+exact: a column whose values all have at most 9 decimals is written as
+fixed-point integers (``"%d.%07d"``) after checking that the written decimal
+reads back to the same float (IEEE division of the integer by 10**k is
+correctly rounded, so ``rint(v*10**k)/10**k == v`` is that check); other values
+are written with ``repr``, the shortest text that reads back exactly, turned
+positional where ``repr`` would use an exponent (xsd:decimal has none).
 """
 from __future__ import annotations
 
@@ -20,6 +22,7 @@ from typing import Iterator
 
 import numpy as np
 
+from .source_texts import SourceTexts, number_texts
 from ..payload import PointExtra
 
 _CHUNK = 50_000
@@ -111,10 +114,22 @@ class PointFormat:
         if present.any():
             self.element(name, indent, present, *decimal_format(values[present], decimals))
 
-    def time(self, indent: str, times: np.ndarray) -> None:
+    def time(self, indent: str, times: np.ndarray, source: SourceTexts | None = None) -> None:
         present = ~np.isnat(times)
         if present.any():
-            self.element("time", indent, present, "%sZ", [time_texts(times[present])])
+            values = times[present]
+            texts = [t + "Z" for t in time_texts(values)]
+            if source:
+                rows, kept = source.lookup("time", values)
+                for row, text in zip(rows.tolist(), kept):
+                    texts[row] = text
+            self.element("time", indent, present, "%s", [texts])
+
+    def kept_number(self, name: str, indent: str, values: np.ndarray, source: SourceTexts | None) -> None:
+        """``<name>`` with the file's own text where the value is unchanged, else compact."""
+        present = ~np.isnan(values)
+        if present.any():
+            self.element(name, indent, present, "%s", [number_texts(values[present], name, source)])
 
     def extras(self, indent: str, payloads: list) -> tuple[list, list, list]:
         """Add ``<extensions>``; return the three other slots' texts (after time, name, pdop)."""
@@ -145,37 +160,39 @@ class PointFormat:
 _NUMBERS = ("ele", "sat", "hdop", "vdop", "pdop")
 
 
-def format_points(table, tag: str, indent: str, names: list | None) -> Iterator[str]:
+def format_points(table, tag: str, indent: str, names: list | None,
+                  source: SourceTexts | None = None) -> Iterator[str]:
     """GPX elements for every point of ``table`` (validated by the caller), in chunks of text.
 
     ``names`` are the escaped ``<name>`` texts (``None`` for no name), or
-    ``None`` when no point has a name. Chunks keep the memory for the
+    ``None`` when no point has a name. ``source`` holds the file's own text of
+    values (see :mod:`editor.io.gpx.source_texts`). Chunks keep the memory for the
     formatting arguments small however long the track.
     """
     lon = np.where(table.lon == 180.0, -180.0, table.lon)  # same meridian; GPX allows [-180, 180)
-    decimals = {"lat": decimals_needed(table.lat), "lon": decimals_needed(lon)}
-    for name in _NUMBERS:
+    decimals = {}
+    for name in _NUMBERS[1:]:
         column = getattr(table, name)
         decimals[name] = decimals_needed(column[~np.isnan(column)])
     for start in range(0, len(table), _CHUNK):
         rows = slice(start, start + _CHUNK)
         yield _format_chunk(table.take(rows), lon[rows], tag, indent, None if names is None else names[rows],
-                            decimals)
+                            decimals, source)
 
 
-def _format_chunk(table, lon, tag: str, indent: str, names, decimals: dict) -> str:
+def _format_chunk(table, lon, tag: str, indent: str, names, decimals: dict, source) -> str:
     inner = indent + "  "
     count = len(table)
     extensions = PointFormat(count)
     after_time, after_name, after_pdop = extensions.extras(inner, table.extra.tolist())
     out = PointFormat(count)
     out.literal(f'{indent}<{tag} lat="')
-    out.value(*decimal_format(table.lat, decimals["lat"]))
+    out.value("%s", [number_texts(table.lat, "lat", source)])
     out.literal('" lon="')
-    out.value(*decimal_format(lon, decimals["lon"]))
+    out.value("%s", [number_texts(lon, "lon", source)])
     out.literal('">')
-    out.number("ele", inner, table.ele, decimals["ele"])
-    out.time(inner, table.time)
+    out.kept_number("ele", inner, table.ele, source)
+    out.time(inner, table.time, source)
     out.texts(after_time)
     if names is not None:
         out.texts(["" if n is None else f"\n{inner}<name>{n}</name>" for n in names])

@@ -45,12 +45,27 @@ def size_problem(size: int) -> str | None:
     return None
 
 
-def _refuse_doctype(data: bytes, path) -> None:
+def _doctypes(data: bytes):
+    """``(encoding, offset)`` of the first ``<!DOCTYPE`` in each encoding it is found in."""
     for encoding in ("utf-8", "utf-16-le", "utf-16-be"):
-        marker = "<!DOCTYPE".encode(encoding)
-        start = data.find(marker, 0, 65536)
-        if start == -1:
-            continue
+        start = data.find("<!DOCTYPE".encode(encoding))
+        if start != -1:
+            yield encoding, start
+
+
+def _misplaced_doctype_line(data: bytes) -> int | None:
+    """Line of a ``<!DOCTYPE`` that comes after the root element's start, or ``None``."""
+    for encoding, start in _doctypes(data):
+        root = re.search(re.escape("<".encode(encoding)) + b"(?!" + re.escape("?".encode(encoding)) + b"|"
+                         + re.escape("!".encode(encoding)) + b")", data)
+        if root is not None and root.start() < start:
+            return data.count("\n".encode(encoding), 0, start) + 1
+    return None
+
+
+def _refuse_doctype(data: bytes, path) -> None:
+    # the whole file is searched (one fast pass): a declaration after a long comment is still found
+    for encoding, start in _doctypes(data):
         head = data[start:data.find(">".encode(encoding), start) + 1].decode(encoding, "replace").encode()
         if _DOCTYPE.search(head):
             newline = "\n".encode(encoding)
@@ -72,8 +87,9 @@ def parse_root(data: bytes, path):
     docinfo = root.getroottree().docinfo
     subset = docinfo.internalDTD
     if docinfo.system_url or docinfo.public_id or (subset is not None and any(True for _ in subset.iterentities())):
+        line = next((data.count("\n".encode(e), 0, start) + 1 for e, start in _doctypes(data)), None)
         raise TrackFileError(path, "the file declares a document type with entities or outside references, "
-                                   "which is refused for safety; GPX files never need one", 1)
+                                   "which is refused for safety; GPX files never need one", line)
     check_root(root, path)
     return root
 
@@ -116,7 +132,15 @@ def _syntax_error(error: etree.XMLSyntaxError, data: bytes, path) -> TrackFileEr
     line = error.lineno or None
     if error.offset:
         message += f" (column {error.offset})"
-    if "huge" in message.lower() or "xmlSAX2Characters" in message:
+    depth = re.search(r"[Ee]xcessive depth in document: (\d+)", message)
+    misplaced = _misplaced_doctype_line(data)
+    if depth:
+        problem = (f"the elements are nested too deeply (more than {depth.group(1)} levels); such files are "
+                   "refused for safety")
+    elif misplaced is not None and (line is None or misplaced <= line):
+        problem, line = ("a document type declaration (<!DOCTYPE ...>) appears after the document has "
+                         "started; it is only allowed before the root element"), misplaced
+    elif "huge" in message.lower() or "xmlSAX2Characters" in message:
         problem = ("a single text or attribute value is too large (over 10,000,000 characters); such "
                    "values are refused for safety")
     elif "amplification" in message or "entity" in message.lower() and "loop" in message.lower():

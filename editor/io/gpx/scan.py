@@ -27,6 +27,12 @@ The scan is used only when it provably sees what a full tree would hold:
   element; the placeholder character does not occur in the file;
 * the skeleton's segments hold all the placeholders.
 
+Waypoints (``<wpt>``, which hold the same children) are cut out of the
+skeleton the same way, with a placeholder of their own, when the bytes say
+``wpt`` exactly twice per cut-out waypoint and the root's own text holds all
+their placeholders; otherwise they stay in the skeleton for the tree. Before
+this, a file of a million waypoints built a full tree (1.5 GB and more).
+
 Otherwise, or when a value fails to convert, the whole file is read through
 the tree (:mod:`editor.io.gpx.tree`), which also names the line of any error.
 A point's ``<extensions>`` payload is its inner text as the file spells it
@@ -39,13 +45,16 @@ import re
 from dataclasses import dataclass, field
 
 from ...model import PointTable
-from .values import PointTexts, ValueProblem, build_table
+from .values import PointTexts, ReadNotes, ValueProblem, build_table
 from .xml_parts import escape_text, unescape
 from ..payload import point_extra
 
-#: Stands for a cut-out point in the skeleton (a private-use character).
+#: Stands for a cut-out track point in the skeleton (a private-use character).
 PLACEHOLDER = "\ue000"
+#: Stands for a cut-out waypoint (another private-use character).
+WAYPOINT_PLACEHOLDER = "\ue001"
 _PLACEHOLDER_BYTES = PLACEHOLDER.encode("utf-8")
+_WAYPOINT_BYTES = WAYPOINT_PLACEHOLDER.encode("utf-8")
 _UTF8 = frozenset(("utf-8", "utf8", "ascii", "us-ascii"))
 _ENCODING = re.compile(rb"(?:\xef\xbb\xbf)?<\?xml[^>]*?encoding\s*=\s*[\"']([A-Za-z0-9._-]+)")
 _SEPARATOR = "\x00"  # cannot occur in XML 1.0 text
@@ -63,14 +72,19 @@ def _block(names) -> bytes:
     return b"(" + b"".join(rb"(?:<%s>[^<]*+</%s>\s*+)?+" % (n.encode(), n.encode()) for n in names) + b")"
 
 
-# GPX 1.1 point children in schema order; <link> (which has children) is left to the tree reader
-_POINT = re.compile(
-    rb'<trkpt (?:lat="([^"]*+)" lon="([^"]*+)"|lon="([^"]*+)" lat="([^"]*+)")>\s*+'
-    + _field("ele") + _field("time") + _block(("magvar", "geoidheight")) + _field("name")
-    + _block(("cmt", "desc", "src", "sym", "type", "fix"))
-    + b"".join(_field(f) for f in ("sat", "hdop", "vdop", "pdop")) + _block(("ageofdgpsdata", "dgpsid"))
-    + rb"(?:(<extensions>)([^<]*+(?:<(?!/extensions>)[^<]*+)*+)</extensions>\s*+|(<extensions/>)\s*+)?+"
-    + rb"</trkpt>")
+def _point_pattern(tag: bytes) -> re.Pattern:
+    """GPX 1.1 point children in schema order; <link> (which has children) is left to the tree reader."""
+    return re.compile(
+        rb'<%s (?:lat="([^"]*+)" lon="([^"]*+)"|lon="([^"]*+)" lat="([^"]*+)")>\s*+' % tag
+        + _field("ele") + _field("time") + _block(("magvar", "geoidheight")) + _field("name")
+        + _block(("cmt", "desc", "src", "sym", "type", "fix"))
+        + b"".join(_field(f) for f in ("sat", "hdop", "vdop", "pdop")) + _block(("ageofdgpsdata", "dgpsid"))
+        + rb"(?:(<extensions>)([^<]*+(?:<(?!/extensions>)[^<]*+)*+)</extensions>\s*+|(<extensions/>)\s*+)?+"
+        + rb"</%s>" % tag)
+
+
+_POINT = _point_pattern(b"trkpt")
+_WAYPOINT = _point_pattern(b"wpt")
 _GROUPS = _POINT.groups
 _SLOT_ELEMENT = re.compile(r"<(\w+)>([^<]*)</\1>")
 
@@ -82,9 +96,12 @@ class Scan:
     data: bytes
     #: every track point of the file, in file order
     table: PointTable
-    #: how many of their times had no time zone
-    without_zone: int
+    #: what converting their values noticed (zone-less times, the file's own texts...)
+    notes: ReadNotes
     skeleton: bytes
+    #: every waypoint of the file (cut out of the skeleton too), or ``None`` when the
+    #: waypoints are left in the skeleton for the tree reader
+    waypoints: PointTable | None = None
     _offsets: list = field(default=None, repr=False)
 
     @property
@@ -100,7 +117,8 @@ class Scan:
 
 def worth_trying(data: bytes) -> bool:
     """Cheap checks on the bytes alone; if false, read through the tree directly."""
-    if data.find(b"<trkpt ") == -1 or data.find(b"<!") != -1 or data.find(_PLACEHOLDER_BYTES) != -1:
+    if (data.find(b"<trkpt ") == -1 and data.find(b"<wpt ") == -1) or data.find(b"<!") != -1 \
+            or data.find(_PLACEHOLDER_BYTES) != -1 or data.find(_WAYPOINT_BYTES) != -1:
         return False
     declared = _ENCODING.match(data)
     if declared and declared.group(1).decode("ascii").lower() not in _UTF8:
@@ -111,11 +129,11 @@ def worth_trying(data: bytes) -> bool:
     return declaration == -1
 
 
-def _chunks(data: bytes):
+def _chunks(data: bytes, start_tag: bytes = b"<trkpt "):
     """Views of ``data`` of about :data:`_CHUNK_BYTES`, each cut where a point starts."""
     view, start = memoryview(data), 0
     while True:
-        cut = data.find(b"<trkpt ", start + _CHUNK_BYTES)
+        cut = data.find(start_tag, start + _CHUNK_BYTES)
         if cut == -1:
             yield view[start:]
             return
@@ -124,32 +142,51 @@ def _chunks(data: bytes):
 
 
 def scan_points(data: bytes) -> Scan | None:
-    """Cut the track points out of ``data`` and convert them; ``None`` if the file needs the tree.
+    """Cut the track points and waypoints out of ``data`` and convert them; ``None`` if the file needs the tree.
 
     Works through the file in chunks so that only one chunk's raw pieces exist
     at a time (the converted columns are a fraction of the file's size).
+    Waypoints are cut from what is left after the track points, when they too
+    meet the conditions in the module notes (otherwise the tree reads them).
     """
-    expected = data.count(b"<trkpt ")
-    if not expected or data.count(b"trkpt") != 2 * expected:
+    cut = _cut(data, _POINT, b"trkpt", _PLACEHOLDER_BYTES)
+    if cut is None:
+        return None
+    table, notes, skeleton = cut
+    waypoints = None
+    if skeleton.find(b"<wpt ") != -1:
+        cut = _cut(skeleton, _WAYPOINT, b"wpt", _WAYPOINT_BYTES)
+        if cut is not None:
+            waypoints, waypoint_notes, skeleton = cut
+            notes.add(waypoint_notes)
+    if not len(table) and waypoints is None:
+        return None
+    return Scan(data, table, notes, skeleton, waypoints)
+
+
+def _cut(data: bytes, pattern: re.Pattern, tag: bytes, placeholder: bytes):
+    """``(table, notes, skeleton)`` of every ``tag`` element of ``data``, or ``None``."""
+    expected = data.count(b"<%s " % tag)
+    if data.count(tag) != 2 * expected:
         return None
     normalise = data.find(b"\r") != -1
-    tables, skeleton, without_zone = [], [], 0
+    tables, skeleton, notes = [], [], ReadNotes()
     try:
-        for chunk in _chunks(data):
-            parts = _POINT.split(chunk)
+        for chunk in _chunks(data, b"<%s " % tag) if expected else [data]:
+            parts = pattern.split(chunk)
             # lxml refuses text nodes over 10 MB (huge_tree=False): an empty comment after each
             # chunk's placeholders splits a long segment's text
-            skeleton.append(_PLACEHOLDER_BYTES.join(parts[0::_GROUPS + 1]))
+            skeleton.append(placeholder.join(parts[0::_GROUPS + 1]))
             if len(parts) > 1:
-                table, missing_zone = build_table(_texts(parts, normalise))
+                table, chunk_notes = build_table(_texts(parts, normalise))
                 tables.append(table)
-                without_zone += missing_zone
+                notes.add(chunk_notes)
     except (ValueProblem, UnicodeDecodeError):
         return None  # the tree reader judges the value and names its line
     table = PointTable.concat(tables)
     if len(table) != expected:
         return None
-    return Scan(data, table, without_zone, b"<!---->".join(skeleton))
+    return table, notes, b"<!---->".join(skeleton)
 
 
 def skeleton_matches(scan: Scan, root, segments) -> bool:

@@ -11,17 +11,19 @@ non-numeric, NaN or infinite ``ele``, ``hdop``, ``vdop``, ``pdop``; a ``sat`` th
 a whole number >= 0; a ``time`` that is not an ISO 8601 date-time (xsd:dateTime)
 or lies outside the years 1678-2261 (what datetime64[ns] can hold).
 Read as absent, silently: an interpreted element that is empty or blank.
-Warnings: times without a zone (read as UTC), times out of order or repeated.
+Warnings: times without a zone (read as UTC), a leap second 23:59:60 (read as the
+last instant of its minute), times out of order or repeated.
 """
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Callable, Sequence
 
 import numpy as np
 
 from ...model import PointTable
+from .source_texts import collect
 
 _LABEL = {"lat": "latitude", "lon": "longitude", "ele": "elevation", "time": "time",
           "sat": "satellite count", "hdop": "hdop", "vdop": "vdop", "pdop": "pdop"}
@@ -113,18 +115,21 @@ def sat_column(texts: Sequence[str | None]) -> np.ndarray:
     return values
 
 
-def time_column(texts: Sequence[str | None]) -> tuple[np.ndarray, int]:
-    """UTC times (datetime64[ns], NaT where absent) and how many had no time zone.
+def time_column(texts: Sequence[str | None], notes: ReadNotes | None = None) -> np.ndarray:
+    """UTC times (datetime64[ns], NaT where absent); counts odd times in ``notes``.
 
     Offsets such as ``+02:00`` are converted to UTC; a time without a zone is
     taken as UTC (GPX 1.1 says times are UTC). Fractions beyond nanoseconds are cut.
+    A leap second (``23:59:60``, which numpy's times cannot hold) is read as the
+    last nanosecond of that minute, so the point keeps its place in time order.
     """
+    notes = ReadNotes() if notes is None else notes
     present = [t for t in texts if t]
     if not present:
-        return np.full(len(texts), np.datetime64("NaT", "ns")), 0
+        return np.full(len(texts), np.datetime64("NaT", "ns"))
     if _UTC_TIMES.fullmatch("\n".join(present)):
         try:
-            return np.array([t[:-1] if t else "NaT" for t in texts], dtype="datetime64[ns]"), 0
+            return np.array([t[:-1] if t else "NaT" for t in texts], dtype="datetime64[ns]")
         except ValueError:
             pass  # an impossible date such as 2024-02-30: find it below
     local = []
@@ -147,6 +152,9 @@ def time_column(texts: Sequence[str | None]) -> tuple[np.ndarray, int]:
             offsets_min[index] = (1 if sign == "+" else -1) * (int(off_h) * 60 + int(off_m))
         elif not zulu:
             without_zone += 1
+        if second == "60":  # a leap second: the last instant of its minute
+            second, fraction = "59", "999999999"
+            notes.leap_seconds += 1
         stamp = f"{year}-{month}-{day}T{hour}:{minute}:{second}"
         local.append(stamp + ("." + fraction[:9] if fraction else ""))
         try:
@@ -154,7 +162,8 @@ def time_column(texts: Sequence[str | None]) -> tuple[np.ndarray, int]:
         except ValueError:
             raise ValueProblem(index, "time", f"time {_shown(text)} is not a valid date and time") from None
     times = np.array(local, dtype="datetime64[ns]")
-    return times - offsets_min.astype("timedelta64[m]"), without_zone
+    notes.without_zone += without_zone
+    return times - offsets_min.astype("timedelta64[m]")
 
 
 def name_column(texts: Sequence[str | None]) -> np.ndarray:
@@ -170,16 +179,63 @@ def extra_column(extras: Sequence) -> np.ndarray:
     return column
 
 
-def build_table(texts: PointTexts) -> tuple[PointTable, int]:
-    """Convert the texts to a :class:`PointTable`; also return the count of zone-less times."""
-    times, without_zone = time_column(texts.time)
+@dataclass
+class ReadNotes:
+    """What reading point values noticed besides the values: counts for warnings, the file's texts."""
+
+    without_zone: int = 0
+    leap_seconds: int = 0
+    #: :class:`~editor.io.gpx.source_texts.SourceTexts` of each run of points read
+    sources: list = field(default_factory=list)
+
+    def add(self, other: ReadNotes) -> None:
+        self.without_zone += other.without_zone
+        self.leap_seconds += other.leap_seconds
+        self.sources += other.sources
+
+    def warnings(self) -> list[str]:
+        found = []
+        if self.without_zone:
+            n = self.without_zone
+            found.append(f"{n} time{'s' if n > 1 else ''} had no time zone and {'were' if n > 1 else 'was'} "
+                         "read as UTC")
+        if self.leap_seconds:
+            n = self.leap_seconds
+            found.append(f"{n} time{'s' if n > 1 else ''} fell on a leap second (23:59:60) and "
+                         f"{'were' if n > 1 else 'was'} read as the last instant of that minute")
+        return found
+
+
+def build_table(texts: PointTexts) -> tuple[PointTable, ReadNotes]:
+    """Convert the texts to a :class:`PointTable`; also return what was noticed on the way."""
+    notes = ReadNotes()
+    times = time_column(texts.time, notes)
     table = PointTable(
         lat=coordinate_column(texts.lat, "lat"), lon=coordinate_column(texts.lon, "lon"),
         ele=float_column(texts.ele, "ele"), time=times,
         hdop=float_column(texts.hdop, "hdop"), vdop=float_column(texts.vdop, "vdop"),
         pdop=float_column(texts.pdop, "pdop"), sat=sat_column(texts.sat),
         name=name_column(texts.name), extra=extra_column(texts.extra))
-    return table, without_zone
+    source = collect({"lat": texts.lat, "lon": texts.lon, "ele": texts.ele, "time": texts.time},
+                     {"lat": table.lat, "lon": table.lon, "ele": table.ele, "time": table.time})
+    if source:
+        notes.sources.append(source)
+    return table, notes
+
+
+def segments_out_of_order(times: np.ndarray, starts: np.ndarray) -> list[int]:
+    """Segments (numbers, from ``starts``) holding a time not later than the one before it.
+
+    One vectorised pass over the whole track, so that a file of a million tiny
+    segments costs no per-segment work unless the segment has a problem.
+    """
+    rows = np.flatnonzero(~np.isnat(times))
+    if len(rows) < 2:
+        return []
+    segment = np.searchsorted(starts, rows, side="right") - 1
+    steps = np.diff(times[rows].view(np.int64))
+    bad = (steps <= 0) & (segment[1:] == segment[:-1])
+    return np.unique(segment[1:][bad]).tolist()
 
 
 def time_order_warnings(times: np.ndarray, where: str, line_of: Callable[[int], int | None]) -> list[str]:

@@ -2,12 +2,13 @@
 
 Everything the reader kept opaque is written back verbatim in its schema slot,
 so a file read and written without edits keeps every element, attribute and
-namespace declaration. Numbers are written exactly: the text reads back to the
-same float (see :mod:`editor.io.gpx.format`; positional, never exponent
-notation, as xsd:decimal requires), so read(write(doc)) equals doc. Times are
-ISO 8601 UTC with a ``Z``, with as many fraction digits as needed (none for
-whole seconds, up to nanoseconds). The file is UTF-8, indented by two spaces,
-and produced in pieces (:func:`gpx_chunks`) so saving streams it to the disk.
+namespace declaration. Latitude, longitude, elevation and time keep the file's
+own text where no edit changed the value; changed ones are written to about
+1 cm (7 decimals of a degree, elevation to 0.01 m) and times as UTC with a
+``Z`` (see :mod:`editor.io.gpx.source_texts`). Other numbers are written exactly
+(positional, never exponent notation, as xsd:decimal requires). The file is
+UTF-8, indented by two spaces, and produced in pieces (:func:`gpx_chunks`) so
+saving streams it to the disk.
 
 A document made in memory (``extra`` not a :class:`DocumentExtra`) is written
 with ``creator="Trackwright"``; reading it back gives
@@ -63,6 +64,8 @@ class _Writer:
             if len(bad):
                 self.fail(describe(int(bad[0])), f"{name} {float(column[bad[0]])!r} cannot be written")
 
+    source = None  # the file's own texts of unchanged values (DocumentExtra.source_texts)
+
     def points(self, table: PointTable, tag: str, indent: str, describe) -> Iterator[str]:
         """XML of the points of ``table``, one element per point, in chunks."""
         if not len(table):
@@ -73,7 +76,7 @@ class _Writer:
             names = None
         else:
             names = [None if n is None else self.text(n, describe(i)) for i, n in enumerate(names)]
-        return format_points(table, tag, indent, names)
+        return format_points(table, tag, indent, names, self.source)
 
     def container_head(self, name, extra, indent: str, where: str) -> str:
         out = ""
@@ -89,6 +92,7 @@ class _Writer:
     def chunks(self, doc: Document) -> Iterator[str]:
         """The document's text, piece by piece."""
         extra = doc.extra if isinstance(doc.extra, DocumentExtra) else DocumentExtra()
+        self.source = extra.source_texts
         root = [f'<gpx xmlns="{GPX11}"']
         root += [f' xmlns:{p}="{escape_attribute(u)}"' for p, u in extra.namespaces]
         root.append(f' version="1.1" creator="{escape_attribute(extra.creator or _DEFAULT_CREATOR)}"')
