@@ -91,6 +91,7 @@ def test_random_tools_and_edits_undo_to_the_exact_original(seed, n, segments, st
     for name, s, use_selection in steps:
         current = doc.tracks[0]
         m = len(current.points)
+        expected = None
         if name == "delete":
             if m < 3:
                 continue
@@ -110,8 +111,16 @@ def test_random_tools_and_edits_undo_to_the_exact_original(seed, n, segments, st
             if proposal.is_noop():
                 continue
             edit = proposal.edit()
+            expected = copy_track(proposal.as_track(current))
+        shared = Track(current.points.shared(), current.segment_starts.copy(), current.name, current.extra,
+                       list(current.segment_extra))  # what a preview worker holds: the same arrays
+        before = copy_track(current)
         inverses.append(edit.apply(doc))
         states.append(copy_track(doc.tracks[0]))
+        # the compact edit (deletes, inserts, changed cells) gives exactly the proposed track ...
+        assert expected is None or doc.tracks[0].equals(expected)
+        # ... and no edit writes into arrays that snapshots and undo steps share
+        assert shared.equals(before)
     redos = [inverse.apply(doc) for inverse in reversed(inverses)]
     assert doc.tracks[0].equals(original)
     for redo, state in zip(reversed(redos), states):

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import inspect
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -14,6 +15,22 @@ from ..model.document import Track
 from ..processing.cleaning_base import planar
 from ..processing.stats import track_totals
 from .workers import LongJob, PreviewRunner, snapshot_track
+
+
+@dataclass(frozen=True)
+class AppliedHint:
+    """What an applied proposal already computed for the state it produced (document revision
+    ``revision``, track ``track``): its planar coordinates and totals, reused by the views."""
+
+    revision: int
+    track: int
+    lat: np.ndarray
+    lon: np.ndarray
+    xy: tuple
+    totals: Any
+
+    def fits(self, window) -> bool:
+        return (self.revision, self.track) == (window.revision, window.state.track)
 
 
 class EditOps:
@@ -29,6 +46,7 @@ class EditOps:
         self.pending_selection = None
         self._snapshot: tuple[int, int, Track] | None = None
         self._preview_cache: dict = {}
+        self.applied_hint: AppliedHint | None = None
         self.cancel_button.clicked.connect(self.cancel_long_job)
 
     # --- hand edits -------------------------------------------------------------------------------
@@ -183,6 +201,7 @@ class EditOps:
             # Project the proposal for the map here, off the UI thread (pyproj objects stay
             # in the thread that made them).
             xy = LocalProjection(lat0, lon0).to_xy(proposal.points.lat, proposal.points.lon)
+            proposal.edit()  # the undo step's "what changed" is worked out here, not when applying
             return proposal, xy
 
         self.preview_runner.request(work, immediately=immediately)
@@ -251,12 +270,15 @@ class EditOps:
             self.statusBar().showMessage("There is no proposal to apply yet.", 5000)
             return False
         self.preview_runner.cancel()
+        xy = self.map_view.proposal_xy(proposal)  # projected by the worker: not again on the UI thread
         self.state.set_preview(None)
         if proposal.is_noop():
             self.statusBar().showMessage("The proposal changes nothing.", 5000)
             return False
         if not self.push_edit(proposal.edit(), proposal.label):
             return False
+        self.applied_hint = AppliedHint(self.revision, self.state.track, proposal.points.lat,
+                                        proposal.points.lon, xy, proposal.after)
         self.recovery.record_now()
         self.statusBar().showMessage(f"Applied: {proposal.label}", 5000)
         return True

@@ -225,6 +225,10 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         track = self.track()
         same_track = self._geometry_key == (id(self.doc), self.state.track)
         previous = self.geometry_ if same_track and not fit else None
+        hint = getattr(self, "applied_hint", None)
+        if hint is not None and hint.fits(self) and track is not None and len(hint.lat) == len(track.points):
+            # an applied tool: its worker already projected the new points
+            previous = TrackGeometry.planar(hint.lat, hint.lon, *hint.xy)
         geometry = (TrackGeometry.from_track(track, self.projection, previous) if track is not None
                     else TrackGeometry.empty())
         self._geometry_key = (id(self.doc), self.state.track)
@@ -249,7 +253,11 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
     def update_totals(self) -> None:
         """Totals of the shown track from the core's statistics."""
         track = self.track()
-        self.totals = track_totals(track) if track is not None else None
+        hint, self.applied_hint = getattr(self, "applied_hint", None), None
+        if hint is not None and hint.fits(self):
+            self.totals = hint.totals  # the applied proposal's "after" totals are this track's
+        else:
+            self.totals = track_totals(track) if track is not None else None
         if self.state.preview is None:
             self.totals_panel.set_totals(self.totals)
 

@@ -1,10 +1,10 @@
 """Background work: tool previews and long estimates off the UI thread.
 
 A control change restarts a short debounce timer; when it fires, the tool runs
-on a worker thread on an immutable snapshot of the track (a deep copy taken
-once per document revision). Every request gets a generation number and a
-result whose generation is no longer the newest is dropped, so a slow old
-computation can never overwrite a newer preview.
+on a worker thread on an immutable snapshot of the track (taken once per
+document revision; it shares the columns, which edits never write in place).
+Every request gets a generation number and a result whose generation is no
+longer the newest is dropped, so a slow old computation can never overwrite a newer preview.
 """
 from __future__ import annotations
 
@@ -22,8 +22,12 @@ DEBOUNCE_MS = 150
 
 
 def snapshot_track(track: Track) -> Track:
-    """A deep copy of ``track`` that later edits cannot reach."""
-    return Track(points=track.points.copy(), segment_starts=track.segment_starts.copy(), name=track.name,
+    """A copy of ``track`` that later edits cannot reach.
+
+    The point columns are shared, not copied: edits never write into a document's arrays
+    (they copy on write, see :mod:`editor.model.edits`), so this costs nothing at a million points.
+    """
+    return Track(points=track.points.shared(), segment_starts=track.segment_starts.copy(), name=track.name,
                  extra=track.extra, segment_extra=list(track.segment_extra))
 
 

@@ -90,6 +90,8 @@ SESSION = textwrap.dedent("""
         proposal = entry.function(snapshot, params or entry.params(), track_index=win.state.track)
         xy = LocalProjection(win.projection.lat0, win.projection.lon0).to_xy(proposal.points.lat,
                                                                              proposal.points.lon)
+        if hasattr(proposal, "_edit"):
+            proposal.edit()  # as the preview worker does
         tool_s = time.perf_counter() - t
         win._preview_ready((proposal, xy)); settle()
         del proposal, xy, snapshot
