@@ -14,6 +14,7 @@ from ..geo.projection import LocalProjection
 from ..model.document import Track
 from ..processing.cleaning_base import planar
 from ..processing.stats import track_totals
+from . import dialogs
 from .workers import LongJob, PreviewRunner, snapshot_track
 
 
@@ -110,7 +111,7 @@ class EditOps:
         count = hand_edits.backward_time_count(track) if track is not None else 0
         if not count:
             return
-        answer = QtWidgets.QMessageBox.question(
+        answer = dialogs.ask(
             self, "Times out of order",
             f"{count:,} point{'s' if count != 1 else ''} of this track "
             f"{'have times' if count != 1 else 'has a time'} earlier than the point before.\n\n"

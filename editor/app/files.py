@@ -7,6 +7,7 @@ from pathlib import Path
 from PySide6 import QtWidgets
 
 from ..io.errors import TrackFileError
+from . import dialogs
 
 #: Added to the original's name for the default cleaned copy: ``ride.gpx`` → ``ride.tidy.gpx``.
 CLEANED_SUFFIX = ".tidy"
@@ -48,7 +49,7 @@ class FileOps:
         except TrackFileError as err:
             partial = getattr(err, "partial", None)
             if partial is not None and partial.point_count:
-                answer = QtWidgets.QMessageBox.question(
+                answer = dialogs.ask(
                     self, "File is incomplete",
                     f"{err}\n\nThe file stops early. Open the {partial.point_count:,} points read before "
                     "the problem, read-only? Saving a cleaned copy writes only those points; the copy "
@@ -76,9 +77,10 @@ class FileOps:
 
     def show_file_error(self, title: str, err: TrackFileError) -> None:
         where = f"line {err.line}" if err.line else "the file"
-        text = (f"<b>{Path(err.path).name if err.path else 'The data'}</b>: {err.problem}"
-                f"<br><br>Where: {err.path or '—'}, {where}.")
-        QtWidgets.QMessageBox.warning(self, title, text)
+        # plain text: the problem quotes the file, which may hold anything ("<ele>", "<img ...>")
+        text = (f"{Path(err.path).name if err.path else 'The data'}: {err.problem}"
+                f"\n\nWhere: {err.path or '—'}, {where}.")
+        dialogs.warn(self, title, text)
         self.statusBar().showMessage(str(err), 10000)
 
     def _remember(self, path) -> None:
@@ -93,7 +95,7 @@ class FileOps:
         files = self.settings.recent_files()
         for i, name in enumerate(files):
             action = menu.addAction(f"&{i + 1} {Path(name).name}")
-            action.setToolTip(name)
+            action.setToolTip(dialogs.plain_tooltip(name))
             action.triggered.connect(lambda _checked=False, n=name: self.open_path(n))
         if files:
             menu.addSeparator()
@@ -112,7 +114,7 @@ class FileOps:
         is_original = self.source_path is not None and _same_file(target, self.source_path)
         text = (f"{target.name} is the file you opened. Replacing it loses the original recording.\n\n"
                 "Replace the original anyway?" if is_original else f"{target.name} already exists. Replace it?")
-        answer = QtWidgets.QMessageBox.warning(
+        answer = dialogs.warn(
             self, "Replace file?", text,
             QtWidgets.QMessageBox.StandardButton.Yes | QtWidgets.QMessageBox.StandardButton.Cancel,
             QtWidgets.QMessageBox.StandardButton.Cancel)
@@ -193,7 +195,7 @@ class FileOps:
         if self.undo_stack.isClean():
             return True
         buttons = QtWidgets.QMessageBox.StandardButton
-        answer = QtWidgets.QMessageBox.question(
+        answer = dialogs.ask(
             self, "Unsaved changes",
             f"The track has changes that are not saved. Save a cleaned copy before {doing}?",
             buttons.Save | buttons.Discard | buttons.Cancel, buttons.Save)

@@ -16,6 +16,7 @@ from PySide6 import QtCore, QtWidgets
 from ..commands import EditCommand
 from ..io.errors import TrackFileError
 from ..recovery import JournalEntry, RecoveryJournal, find_journals, load_edits, original_document
+from . import dialogs
 
 #: Longest time unsaved edits stay out of the journal (milliseconds).
 JOURNAL_INTERVAL_MS = 20_000
@@ -84,7 +85,7 @@ def offer_recovery(window) -> bool:
     for entry in entries:
         name = Path(entry.source_path).name if entry.source_path else "an unsaved document"
         steps = "\n".join(f"  • {label}" for label in entry.labels[-8:])
-        answer = QtWidgets.QMessageBox.question(
+        answer = dialogs.ask(
             window, "Restore unsaved edits?",
             f"Trackwright stopped before saving the edits to {name}:\n{steps}\n\n"
             "Restore them now? (No deletes this recovery journal.)")

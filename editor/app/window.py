@@ -17,6 +17,7 @@ from ..views.units import offset_label
 from ..panels.legend import LegendPanel
 from ..panels.totals_panel import TotalsPanel
 from ..panels.track_list import TrackList
+from . import dialogs
 from .actions import build_actions
 from .editing import EditOps
 from .files import FileOps
@@ -99,8 +100,8 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         self.resizeDocks([self.tools_dock, self.totals_dock, self.history_dock], [560, 230, 170],
                          QtCore.Qt.Orientation.Vertical)
 
-        self.status_points = QtWidgets.QLabel("")
-        self.status_units = QtWidgets.QLabel("")
+        self.status_points = dialogs.plain_label("")
+        self.status_units = dialogs.plain_label("")
         self.progress = QtWidgets.QProgressBar()
         self.progress.setRange(0, 1000)
         self.progress.setMaximumWidth(180)

@@ -21,7 +21,13 @@ from __future__ import annotations
 import numpy as np
 
 from .document import Track
-from .edits import DeletePoints, EditSequence, InsertPoints, ReplaceTrackPoints, SetValues
+from .edits import (
+    DeletePoints,
+    EditSequence,
+    InsertPoints,
+    ReplaceTrackPoints,
+    SetValues,
+)
 from .points import ALL_COLUMNS, PointTable
 
 #: When more than this share of a column's rows change, the column is replaced whole (no copy).
@@ -112,4 +118,4 @@ def transition_edit(track_index: int, original: Track, points: PointTable, segme
     return EditSequence(tuple(steps))
 
 
-__all__ = ["transition_edit", "share_unchanged", "differs", "WHOLE_COLUMN_SHARE"]
+__all__ = ["WHOLE_COLUMN_SHARE", "differs", "share_unchanged", "transition_edit"]
