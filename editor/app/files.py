@@ -8,6 +8,7 @@ from PySide6 import QtWidgets
 
 from ..io.errors import TrackFileError
 from . import dialogs
+from .file_jobs import Cancelled, FileJobBusy, FileJobs, document_snapshot
 
 #: Added to the original's name for the default cleaned copy: ``ride.gpx`` → ``ride.tidy.gpx``.
 CLEANED_SUFFIX = ".tidy"
@@ -29,6 +30,25 @@ def cleaned_copy_name(original: Path) -> Path:
 class FileOps:
     """Mixin for :class:`~editor.app.window.MainWindow`."""
 
+    @property
+    def file_jobs(self) -> FileJobs:
+        """Reads and writes files off the UI thread (progress and Cancel in the status bar)."""
+        jobs = getattr(self, "_file_jobs", None)
+        if jobs is None:
+            jobs = self._file_jobs = FileJobs(self)
+        return jobs
+
+    def _file_job(self, title: str, work):
+        """Run ``work(progress)`` as a file job; ``None`` (and a status message) when it did not run
+        to the end. Errors of the work itself are raised."""
+        try:
+            return self.file_jobs.run(title, work)
+        except Cancelled:
+            self.statusBar().showMessage(f"{title}: cancelled, nothing was changed.", 8000)
+        except FileJobBusy as err:
+            self.statusBar().showMessage(f"{title}: not now, {err}.", 8000)
+        return None
+
     # --- opening ----------------------------------------------------------------------------------
     def open_dialog(self) -> None:
         if not self.confirm_discard("opening another file"):
@@ -44,8 +64,9 @@ class FileOps:
             return False
         from ..io.gpx import read_gpx
 
+        history = self.undo_stack.index()
         try:
-            doc = read_gpx(path)
+            doc = self._file_job(f"Reading {Path(path).name}", lambda progress: read_gpx(path, progress=progress))
         except TrackFileError as err:
             partial = getattr(err, "partial", None)
             if partial is not None and partial.point_count:
@@ -66,6 +87,10 @@ class FileOps:
         except OSError as err:
             self.show_file_error("Cannot open the file", TrackFileError(path, err.strerror or str(err)))
             return False
+        if doc is None:  # cancelled: the shown document stays as it was
+            return False
+        if self.undo_stack.index() != history and not self.confirm_discard("opening another file"):
+            return False  # edited while the file was being read
         self.set_document(doc, path)
         self._remember(path)
         self.statusBar().showMessage(f"Opened {Path(path).name}", 5000)
@@ -143,15 +168,22 @@ class FileOps:
             return False
         from ..io.gpx import write_gpx
 
+        snapshot, history = document_snapshot(self.doc), self.undo_stack.index()
         try:
-            write_gpx(self.doc, target)
+            done = self._file_job(f"Saving {target.name}",
+                                  lambda progress: write_gpx(snapshot, target, progress=progress) or True)
         except TrackFileError as err:
             self.show_file_error("Cannot save", err)
             return False
         except OSError as err:
             self.show_file_error("Cannot save", TrackFileError(target, err.strerror or str(err)))
             return False
+        if not done:
+            return False
         self.saved_copy_path = target
+        if self.undo_stack.index() != history:  # edited while saving: those edits are not in the copy
+            self.statusBar().showMessage(f"Saved {target.name} without the edits made while saving.", 8000)
+            return True
         self.undo_stack.setClean()
         self.recovery.discard()
         if self.read_only:

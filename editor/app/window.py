@@ -363,6 +363,7 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         self.settings.sync()
         self.preview_runner.cancel()
         self.cancel_long_job()
+        self.file_jobs.cancel()
         self.map_view.detach()
         self.profile_view.detach()
         self.pool.shutdown()

@@ -22,6 +22,7 @@ the original file is never overwritten without a backup by :func:`write_gpx`.
 from __future__ import annotations
 
 import os
+from typing import Callable
 
 from ..model import Document
 from .errors import TrackFileError
@@ -34,8 +35,11 @@ from .save import atomic_write, same_file
 __all__ = ["read_gpx", "read_gpx_bytes", "write_gpx", "gpx_bytes", "gpx_text", "MAX_FILE_BYTES"]
 
 
-def read_gpx(path) -> Document:
+def read_gpx(path, progress: Callable[[float], None] | None = None) -> Document:
     """Read a GPX 1.1 or 1.0 file.
+
+    ``progress``, if given, is called from the reading thread with the fraction done (0..1) at a
+    few steps; it may raise to abandon the read (the window's Cancel).
 
     Raises
     ------
@@ -50,10 +54,12 @@ def read_gpx(path) -> Document:
             problem = size_problem(size)
             if problem:
                 raise TrackFileError(path, problem)
+            if progress is not None:
+                progress(0.0)
             data = file.read()
     except OSError as error:
         raise TrackFileError(path, f"cannot read the file: {error.strerror or error}") from None
-    return _read(data, str(path))
+    return _read(data, str(path), progress)
 
 
 def read_gpx_bytes(data: bytes, path=None) -> Document:
@@ -64,14 +70,21 @@ def read_gpx_bytes(data: bytes, path=None) -> Document:
     return _read(data, None if path is None else str(path))
 
 
-def _read(data: bytes, path: str | None) -> Document:
+def _read(data: bytes, path: str | None, progress: Callable[[float], None] | None = None) -> Document:
+    step = progress or (lambda _fraction: None)
+    step(0.1)
     if gpx_scan.worth_trying(data):
         validate(data, path)
+        step(0.4)
         doc = _read_scanned(data, path)
         if doc is not None:
+            step(1.0)
             return doc
     reader = TreeReader(parse_root(data, path), path)
-    return reader.document(reader.shape())
+    step(0.6)
+    doc = reader.document(reader.shape())
+    step(1.0)
+    return doc
 
 
 def _read_scanned(data: bytes, path: str | None) -> Document | None:
@@ -95,12 +108,39 @@ def _read_scanned(data: bytes, path: str | None) -> Document | None:
         return None
 
 
-def write_gpx(doc: Document, path, *, backup: bool | None = None) -> None:
+def write_gpx(doc: Document, path, *, backup: bool | None = None,
+              progress: Callable[[float], None] | None = None) -> None:
     """Write ``doc`` as GPX 1.1, atomically (see :func:`editor.io.save.atomic_write`).
 
     ``backup=None`` keeps a backup exactly when ``path`` is the file the
     document was read from, so the original recording is never lost.
+    ``progress``, if given, is called with the estimated fraction written; if it raises, the save
+    is abandoned and nothing is written (the window's Cancel).
     """
     if backup is None:
         backup = same_file(path, doc.source_path)
-    atomic_write(path, gpx_chunks(doc, path), backup=backup)
+    chunks = gpx_chunks(doc, path)
+    if progress is not None:
+        chunks = _reporting(chunks, progress, _expected_bytes(doc))
+    atomic_write(path, chunks, backup=backup)
+
+
+def _expected_bytes(doc: Document) -> int:
+    """About how long the written file will be: the original's size, else ~150 bytes a point."""
+    points = doc.point_count + len(doc.waypoints) + sum(len(r.points) for r in doc.routes)
+    try:
+        if doc.source_path:
+            return max(os.path.getsize(doc.source_path), 1)
+    except OSError:
+        pass
+    return 150 * max(points, 1)
+
+
+def _reporting(chunks, progress: Callable[[float], None], total: int):
+    written = 0
+    progress(0.0)
+    for chunk in chunks:
+        written += len(chunk)
+        progress(min(written / total, 0.99))
+        yield chunk
+    progress(1.0)

@@ -1,0 +1,145 @@
+"""Reading and writing track files off the UI thread, with progress and a working Cancel.
+
+A million-point file takes seconds to read and to write. :class:`FileJobs` runs
+such a job on a thread of its own and, until it ends, keeps the window's event
+loop running (a local ``QEventLoop``): the window goes on painting and
+answering, the status bar shows the progress and a Cancel button. Callers keep
+a plain synchronous shape::
+
+    doc = window.file_jobs.run("Reading ride.gpx", lambda progress: read_gpx(path, progress=progress))
+
+``run`` returns the job's result, raises the job's own exception, or raises
+:class:`Cancelled` when the user pressed Cancel. Cancel abandons the job at
+once: the caller keeps everything as it was (the previous document, the file on
+disk); the thread stops at its next progress report, or finishes in the
+background and its result is dropped.
+
+While a job runs, the window refuses to start another file job, and closing the
+window cancels it.
+"""
+from __future__ import annotations
+
+import threading
+from typing import Any, Callable
+
+from PySide6 import QtCore
+
+from ..model.document import Document, Route, Track
+
+
+class Cancelled(Exception):
+    """The user cancelled a file job; nothing was changed."""
+
+
+class FileJobBusy(RuntimeError):
+    """Another file job is still running."""
+
+
+class _Relay(QtCore.QObject):
+    """Lives in the UI thread: signals emitted by the job's thread arrive there queued."""
+
+    progress = QtCore.Signal(float)
+    finished = QtCore.Signal(object, object)  # result, exception
+
+
+class FileJobs(QtCore.QObject):
+    """Runs one file job at a time for ``window`` (which has ``progress``, ``cancel_button``,
+    ``statusBar()``)."""
+
+    def __init__(self, window) -> None:
+        super().__init__(window)
+        self.window = window
+        self._loop: QtCore.QEventLoop | None = None
+        self._cancel: threading.Event | None = None
+        self._outcome: tuple[Any, BaseException | None] | None = None
+        window.cancel_button.clicked.connect(self.cancel)
+
+    @property
+    def busy(self) -> bool:
+        return self._loop is not None
+
+    def run(self, title: str, work: Callable[[Callable[[float], None]], Any]) -> Any:
+        """Run ``work(progress)`` on a worker thread while the window stays live.
+
+        ``progress(fraction)`` may be called from the worker with 0..1; after Cancel it raises
+        :class:`Cancelled` so that the work stops early.
+        """
+        if self.busy:
+            raise FileJobBusy("another file is still being read or written")
+        cancel = threading.Event()
+        relay = _Relay()
+        loop = QtCore.QEventLoop()
+        self._loop, self._cancel, self._outcome = loop, cancel, None
+
+        def report(fraction: float) -> None:
+            if cancel.is_set():
+                raise Cancelled()
+            relay.progress.emit(float(fraction))
+
+        def body() -> None:
+            try:
+                result, error = work(report), None
+            except BaseException as err:  # handed to the UI thread, raised there by run()
+                result, error = None, err
+            relay.finished.emit(result, error)
+
+        def finished(result, error) -> None:
+            if self._loop is loop:
+                self._outcome = (result, error)
+                loop.quit()
+
+        relay.finished.connect(finished)
+        relay.progress.connect(self._show_progress)
+        self._start_progress(title)
+        try:
+            threading.Thread(target=body, name="trackwright-file", daemon=True).start()
+            loop.exec()  # the window keeps painting and answering until the job ends or is cancelled
+        finally:
+            self._loop = self._cancel = None
+            self._stop_progress()
+            relay.finished.disconnect(finished)
+            relay.progress.disconnect(self._show_progress)  # an abandoned job reports nothing more
+        outcome, self._outcome = self._outcome, None
+        if cancel.is_set() or outcome is None:
+            raise Cancelled()
+        result, error = outcome
+        if error is not None:
+            raise error
+        return result
+
+    def cancel(self) -> None:
+        """Abandon the running job (if any): ``run`` returns at once by raising :class:`Cancelled`."""
+        if self._cancel is not None and self._loop is not None:
+            self._cancel.set()
+            self._loop.quit()
+
+    # --- the status bar --------------------------------------------------------------------------
+    def _start_progress(self, title: str) -> None:
+        bar = self.window.progress
+        bar.setValue(0)
+        bar.setFormat(f"{title} %p%")
+        bar.show()
+        self.window.cancel_button.show()
+        self.window.statusBar().showMessage(f"{title}…")
+
+    def _show_progress(self, fraction: float) -> None:
+        if self.busy:
+            self.window.progress.setValue(int(max(0.0, min(1.0, fraction)) * 1000))
+
+    def _stop_progress(self) -> None:
+        self.window.progress.hide()
+        self.window.cancel_button.hide()
+        self.window.statusBar().clearMessage()
+
+
+def document_snapshot(doc: Document) -> Document:
+    """A copy of ``doc`` for a writer thread, made in no time: the point columns are shared, which is
+    safe because edits never write into a document's arrays (they copy on write)."""
+    tracks = [Track(points=t.points.shared(), segment_starts=t.segment_starts.copy(), name=t.name,
+                    extra=t.extra, segment_extra=list(t.segment_extra)) for t in doc.tracks]
+    routes = [Route(points=r.points.shared(), name=r.name, extra=r.extra) for r in doc.routes]
+    return Document(tracks=tracks, routes=routes, waypoints=doc.waypoints.shared(), extra=doc.extra,
+                    source_path=doc.source_path, warnings=list(doc.warnings))
+
+
+__all__ = ["FileJobs", "Cancelled", "FileJobBusy", "document_snapshot"]
