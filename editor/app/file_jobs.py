@@ -20,7 +20,8 @@ window cancels it.
 from __future__ import annotations
 
 import threading
-from typing import Any, Callable
+from collections.abc import Callable
+from typing import Any
 
 from PySide6 import QtCore
 
@@ -79,7 +80,7 @@ class FileJobs(QtCore.QObject):
         def body() -> None:
             try:
                 result, error = work(report), None
-            except BaseException as err:  # handed to the UI thread, raised there by run()
+            except BaseException as err:  # noqa: BLE001 (handed to the UI thread, raised there by run())
                 result, error = None, err
             relay.finished.emit(result, error)
 
@@ -142,4 +143,4 @@ def document_snapshot(doc: Document) -> Document:
                     source_path=doc.source_path, warnings=list(doc.warnings))
 
 
-__all__ = ["FileJobs", "Cancelled", "FileJobBusy", "document_snapshot"]
+__all__ = ["Cancelled", "FileJobBusy", "FileJobs", "document_snapshot"]

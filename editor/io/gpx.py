@@ -22,7 +22,7 @@ the original file is never overwritten without a backup by :func:`write_gpx`.
 from __future__ import annotations
 
 import os
-from typing import Callable
+from collections.abc import Callable
 
 from ..model import Document
 from .errors import TrackFileError

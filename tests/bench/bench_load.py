@@ -50,7 +50,7 @@ SESSION = textwrap.dedent("""
     os.environ["QT_QPA_PLATFORM"] = "offscreen"
     sys.path.insert(0, {root!r})
     from pathlib import Path
-    from PySide6 import QtWidgets
+    from PySide6 import QtCore, QtWidgets
     from editor.app import create_application
     from editor.app.settings import AppSettings
     from editor.app.window import MainWindow
@@ -72,7 +72,32 @@ SESSION = textwrap.dedent("""
         win.map_view.viewport().repaint(); win.profile_view.viewport().repaint()
         app.processEvents()
 
-    t = time.perf_counter(); assert win.open_path({src!r}); settle(); open_s = time.perf_counter() - t
+    class Stalls:
+        # longest gap between turns of the event loop (a 10 ms timer) while something runs
+        def __init__(self):
+            self.timer = QtCore.QTimer(interval=10)
+            self.timer.timeout.connect(self.tick)
+        def tick(self):
+            now = time.perf_counter()
+            self.worst, self.last = max(self.worst, now - self.last), now
+        def start(self):
+            self.worst, self.last = 0.0, time.perf_counter()
+            self.timer.start()
+        def stop(self):
+            self.tick()
+            self.timer.stop()
+            return self.worst
+
+    journal = [0.0]  # time spent writing the crash-recovery journal (part of each apply's freeze)
+    record_now = win.recovery.record_now
+    def timed_record_now():
+        t = time.perf_counter(); record_now(); journal[0] += time.perf_counter() - t
+    win.recovery.record_now = timed_record_now
+
+    stalls = Stalls()
+    stalls.start()
+    t = time.perf_counter(); assert win.open_path({src!r}); open_s = time.perf_counter() - t
+    open_stall = stalls.stop(); settle()
     after_open = peak_mb()
     # Every apply keeps most of the million points: smoothing changes columns in place of rows,
     # the simplifications drop 5 % of the rows each.
@@ -95,9 +120,10 @@ SESSION = textwrap.dedent("""
         tool_s = time.perf_counter() - t
         win._preview_ready((proposal, xy)); settle()
         del proposal, xy, snapshot
+        journal[0] = 0.0
         t = time.perf_counter(); applied = win.apply_preview(); settle(); freeze_s = time.perf_counter() - t
         lines.append(f"{{name}},{{tool_s:.2f}},{{freeze_s:.3f}},{{int(applied)}},{{win.doc.point_count}},"
-                     f"{{peak_mb():.0f}}")
+                     f"{{peak_mb():.0f}},{{journal[0]:.3f}}")
     after_applies = peak_mb()
     n = len(win.track().points)
     t = time.perf_counter()
@@ -113,9 +139,12 @@ SESSION = textwrap.dedent("""
             win.set_point_elevation(row, 400.0 + k)
         settle()
     hand_s = (time.perf_counter() - t) / 20
+    stalls.start()
     t = time.perf_counter(); saved = win.write_copy(Path({dst!r})); save_s = time.perf_counter() - t
+    save_stall = stalls.stop()
     print("|".join(lines), f"{{open_s:.2f}} {{after_open:.0f}} {{after_applies:.0f}} {{hand_s * 1000:.0f}} "
-          f"{{save_s:.2f}} {{int(saved)}} {{win.undo_stack.count()}} {{peak_mb():.0f}}")
+          f"{{save_s:.2f}} {{int(saved)}} {{win.undo_stack.count()}} {{peak_mb():.0f}} {{open_stall:.2f}} "
+          f"{{save_stall:.2f}}")
     win.undo_stack.setClean(); win.close()
 """)
 
@@ -143,16 +172,19 @@ def session(src: Path, tmp: Path, points: int) -> None:
         print(result.stderr[-3000:])
         raise SystemExit("the window session failed")
     applies, rest = result.stdout.strip().splitlines()[-1].split(" ", 1)
-    open_s, after_open, after_applies, hand_ms, save_s, saved, steps, peak = rest.split()
-    print(f"window session: open {open_s} s (peak {after_open} MB)")
+    open_s, after_open, after_applies, hand_ms, save_s, saved, steps, peak, open_stall, save_stall = rest.split()
+    print(f"window session: open {open_s} s (peak {after_open} MB), longest UI stall while opening "
+          f"{open_stall} s")
     worst = 0.0
     for line in applies.split("|"):
-        name, tool_s, freeze_s, applied, points, peak_now = line.split(",")
+        name, tool_s, freeze_s, applied, points, peak_now, journal_s = line.split(",")
         worst = max(worst, float(freeze_s))
-        print(f"  apply {name:<9} tool {tool_s:>5} s (worker)  UI freeze {float(freeze_s):6.3f} s  "
+        print(f"  apply {name:<9} tool {tool_s:>5} s (worker)  UI freeze {float(freeze_s):6.3f} s "
+              f"(journal {float(journal_s):5.3f} s)  "
               f"{'applied' if applied == '1' else 'no change'}  {int(points):,} points  peak {peak_now} MB")
     print(f"  after 6 applies: peak {after_applies} MB; 20 hand edits: {hand_ms} ms each (with repaint); "
-          f"save {save_s} s ({'saved' if saved == '1' else 'NOT saved'}), {steps} undo steps")
+          f"save {save_s} s ({'saved' if saved == '1' else 'NOT saved'}, longest UI stall {save_stall} s), "
+          f"{steps} undo steps")
     print(f"  worst UI freeze per apply {worst:.3f} s  target <= 0.5 s  {ratio(worst, 0.5)}")
     print(f"  peak resident memory {peak} MB  target <= 1600 MB  {ratio(float(peak), 1600)}")
 

@@ -10,11 +10,11 @@ import threading
 from pathlib import Path
 
 import pytest
+from gui_support import DEMO_RIDE, synthetic_ride
 from PySide6 import QtCore, QtWidgets
 
-import editor.io.gpx as gpx
+from editor.io import gpx
 from editor.io.gpx import read_gpx
-from gui_support import DEMO_RIDE, synthetic_ride
 
 #: Longest a stand-in waits for the test: only reached when the UI thread is blocked (today's bug).
 GIVE_UP_S = 5.0
@@ -52,7 +52,7 @@ class LoopWatch(QtCore.QObject):
         self.timer.timeout.connect(self._tick)
         self.timer.start()
 
-    def eventFilter(self, _obj, event):  # noqa: N802 (Qt override)
+    def eventFilter(self, _obj, event):
         if event.type() == QtCore.QEvent.Type.Paint and self.stand_in.started.is_set():
             self.paints += 1
         return False
