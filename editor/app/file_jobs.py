@@ -19,6 +19,8 @@ window cancels it.
 """
 from __future__ import annotations
 
+import ctypes
+import ctypes.util
 import threading
 from collections.abc import Callable
 from typing import Any
@@ -101,6 +103,7 @@ class FileJobs(QtCore.QObject):
             relay.finished.disconnect(finished)
             relay.progress.disconnect(self._show_progress)  # an abandoned job reports nothing more
         outcome, self._outcome = self._outcome, None
+        release_free_memory()
         if cancel.is_set() or outcome is None:
             raise Cancelled()
         result, error = outcome
@@ -131,6 +134,21 @@ class FileJobs(QtCore.QObject):
         self.window.progress.hide()
         self.window.cancel_button.hide()
         self.window.statusBar().clearMessage()
+
+
+def release_free_memory() -> None:
+    """Hand memory freed by a finished job back to the system.
+
+    A read allocates hundreds of megabytes on the job's thread; glibc keeps what that thread freed
+    in the thread's own arena, where the UI and preview threads cannot reuse it (at a million
+    points about 100 MB of resident memory). ``malloc_trim`` returns it; elsewhere this does nothing.
+    """
+    try:
+        libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6")
+        trim = libc.malloc_trim
+    except (OSError, AttributeError):
+        return
+    trim(0)
 
 
 def document_snapshot(doc: Document) -> Document:

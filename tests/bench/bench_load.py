@@ -80,13 +80,16 @@ SESSION = textwrap.dedent("""
         def tick(self):
             now = time.perf_counter()
             self.worst, self.last = max(self.worst, now - self.last), now
+            if win.file_jobs.busy:  # the file job's thread is working: the window must stay live
+                self.worst_in_job = self.worst
         def start(self):
-            self.worst, self.last = 0.0, time.perf_counter()
+            self.worst = self.worst_in_job = 0.0
+            self.last = time.perf_counter()
             self.timer.start()
         def stop(self):
             self.tick()
             self.timer.stop()
-            return self.worst
+            return f"{{self.worst_in_job:.2f}}/{{self.worst:.2f}}"
 
     journal = [0.0]  # time spent writing the crash-recovery journal (part of each apply's freeze)
     record_now = win.recovery.record_now
@@ -98,6 +101,7 @@ SESSION = textwrap.dedent("""
     stalls.start()
     t = time.perf_counter(); assert win.open_path({src!r}); open_s = time.perf_counter() - t
     open_stall = stalls.stop(); settle()
+    cpu0 = time.thread_time()
     after_open = peak_mb()
     # Every apply keeps most of the million points: smoothing changes columns in place of rows,
     # the simplifications drop 5 % of the rows each.
@@ -121,9 +125,11 @@ SESSION = textwrap.dedent("""
         win._preview_ready((proposal, xy)); settle()
         del proposal, xy, snapshot
         journal[0] = 0.0
-        t = time.perf_counter(); applied = win.apply_preview(); settle(); freeze_s = time.perf_counter() - t
+        t, cpu = time.perf_counter(), time.thread_time()
+        applied = win.apply_preview(); settle()
+        freeze_s, cpu_s = time.perf_counter() - t, time.thread_time() - cpu
         lines.append(f"{{name}},{{tool_s:.2f}},{{freeze_s:.3f}},{{int(applied)}},{{win.doc.point_count}},"
-                     f"{{peak_mb():.0f}},{{journal[0]:.3f}}")
+                     f"{{peak_mb():.0f}},{{journal[0]:.3f}},{{cpu_s:.3f}}")
     after_applies = peak_mb()
     n = len(win.track().points)
     t = time.perf_counter()
@@ -143,8 +149,8 @@ SESSION = textwrap.dedent("""
     t = time.perf_counter(); saved = win.write_copy(Path({dst!r})); save_s = time.perf_counter() - t
     save_stall = stalls.stop()
     print("|".join(lines), f"{{open_s:.2f}} {{after_open:.0f}} {{after_applies:.0f}} {{hand_s * 1000:.0f}} "
-          f"{{save_s:.2f}} {{int(saved)}} {{win.undo_stack.count()}} {{peak_mb():.0f}} {{open_stall:.2f}} "
-          f"{{save_stall:.2f}}")
+          f"{{save_s:.2f}} {{int(saved)}} {{win.undo_stack.count()}} {{peak_mb():.0f}} {{open_stall}} "
+          f"{{save_stall}}")
     win.undo_stack.setClean(); win.close()
 """)
 
@@ -173,19 +179,22 @@ def session(src: Path, tmp: Path, points: int) -> None:
         raise SystemExit("the window session failed")
     applies, rest = result.stdout.strip().splitlines()[-1].split(" ", 1)
     open_s, after_open, after_applies, hand_ms, save_s, saved, steps, peak, open_stall, save_stall = rest.split()
-    print(f"window session: open {open_s} s (peak {after_open} MB), longest UI stall while opening "
-          f"{open_stall} s")
-    worst = 0.0
+    print(f"window session: open {open_s} s (peak {after_open} MB); longest UI stall while the file is "
+          f"read / including building the views {open_stall} s")
+    worst = worst_cpu = 0.0
     for line in applies.split("|"):
-        name, tool_s, freeze_s, applied, points, peak_now, journal_s = line.split(",")
-        worst = max(worst, float(freeze_s))
+        name, tool_s, freeze_s, applied, points, peak_now, journal_s, cpu_s = line.split(",")
+        worst, worst_cpu = max(worst, float(freeze_s)), max(worst_cpu, float(cpu_s))
         print(f"  apply {name:<9} tool {tool_s:>5} s (worker)  UI freeze {float(freeze_s):6.3f} s "
-              f"(journal {float(journal_s):5.3f} s)  "
+              f"(UI thread CPU {float(cpu_s):5.3f} s, journal {float(journal_s):5.3f} s)  "
               f"{'applied' if applied == '1' else 'no change'}  {int(points):,} points  peak {peak_now} MB")
     print(f"  after 6 applies: peak {after_applies} MB; 20 hand edits: {hand_ms} ms each (with repaint); "
-          f"save {save_s} s ({'saved' if saved == '1' else 'NOT saved'}, longest UI stall {save_stall} s), "
+          f"save {save_s} s ({'saved' if saved == '1' else 'NOT saved'}, longest UI stall while writing / "
+          f"overall {save_stall} s), "
           f"{steps} undo steps")
     print(f"  worst UI freeze per apply {worst:.3f} s  target <= 0.5 s  {ratio(worst, 0.5)}")
+    print(f"  (the same as UI-thread CPU time, which a busy machine does not inflate: {worst_cpu:.3f} s  "
+          f"{ratio(worst_cpu, 0.5)})")
     print(f"  peak resident memory {peak} MB  target <= 1600 MB  {ratio(float(peak), 1600)}")
 
 
