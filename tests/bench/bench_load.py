@@ -80,7 +80,8 @@ SESSION = textwrap.dedent("""
         def tick(self):
             now = time.perf_counter()
             self.worst, self.last = max(self.worst, now - self.last), now
-            if win.file_jobs.busy:  # the file job's thread is working: the window must stay live
+            jobs = getattr(win, "file_jobs", None)  # absent before reading moved off the UI thread
+            if jobs is None or jobs.busy:  # the file is being read or written: the window must stay live
                 self.worst_in_job = self.worst
         def start(self):
             self.worst = self.worst_in_job = 0.0
