@@ -126,3 +126,19 @@ def test_random_tools_and_edits_undo_to_the_exact_original(seed, n, segments, st
     for redo, state in zip(reversed(redos), states):
         redo.apply(doc)
         assert doc.tracks[0].equals(state)
+
+
+@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(seed=st.integers(0, 10_000), n=st.integers(5, 200), use_selection=st.booleans())
+def test_tools_never_write_into_the_track_they_are_given(seed, n, use_selection):
+    """Preview workers get a snapshot that shares the document's arrays (edits copy on write), so a
+    tool writing in place would change the document behind the undo history. Frozen arrays catch it."""
+    track = invented_track(seed, n, 2)
+    expected = copy_track(track)
+    for column in track.points.columns().values():
+        column.flags.writeable = False
+    rows = np.arange(n // 4, n // 2) if use_selection else None
+    for name, entry in sorted(TOOLS.items()):
+        proposal = entry.function(track, PARAMS[name](seed), rows=rows, track_index=0)
+        proposal.edit()
+    assert track.equals(expected)
