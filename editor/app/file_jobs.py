@@ -9,10 +9,12 @@ a plain synchronous shape::
     doc = window.file_jobs.run("Reading ride.gpx", lambda progress: read_gpx(path, progress=progress))
 
 ``run`` returns the job's result, raises the job's own exception, or raises
-:class:`Cancelled` when the user pressed Cancel. Cancel abandons the job at
-once: the caller keeps everything as it was (the previous document, the file on
-disk); the thread stops at its next progress report, or finishes in the
-background and its result is dropped.
+:class:`Cancelled` when the user pressed Cancel. Cancel abandons a read at
+once: the caller keeps everything as it was (the previous document); the thread
+stops at its next progress report, or finishes in the background and its result
+is dropped. A write (``abandon=False``) is waited for until it has stopped at its
+next progress report, so that "cancelled" always means "nothing was written";
+a write already past its last piece completes and counts as done.
 
 While a job runs, the window refuses to start another file job, and closing the
 window cancels it.
@@ -55,24 +57,26 @@ class FileJobs(QtCore.QObject):
         self._loop: QtCore.QEventLoop | None = None
         self._cancel: threading.Event | None = None
         self._outcome: tuple[Any, BaseException | None] | None = None
+        self._abandon = True
         window.cancel_button.clicked.connect(self.cancel)
 
     @property
     def busy(self) -> bool:
         return self._loop is not None
 
-    def run(self, title: str, work: Callable[[Callable[[float], None]], Any]) -> Any:
+    def run(self, title: str, work: Callable[[Callable[[float], None]], Any], abandon: bool = True) -> Any:
         """Run ``work(progress)`` on a worker thread while the window stays live.
 
         ``progress(fraction)`` may be called from the worker with 0..1; after Cancel it raises
-        :class:`Cancelled` so that the work stops early.
+        :class:`Cancelled` so that the work stops early. ``abandon``: Cancel returns at once
+        (reads); otherwise Cancel waits for the work to stop (writes).
         """
         if self.busy:
             raise FileJobBusy("another file is still being read or written")
         cancel = threading.Event()
         relay = _Relay()
         loop = QtCore.QEventLoop()
-        self._loop, self._cancel, self._outcome = loop, cancel, None
+        self._loop, self._cancel, self._outcome, self._abandon = loop, cancel, None, abandon
 
         def report(fraction: float) -> None:
             if cancel.is_set():
@@ -104,7 +108,7 @@ class FileJobs(QtCore.QObject):
             relay.progress.disconnect(self._show_progress)  # an abandoned job reports nothing more
         outcome, self._outcome = self._outcome, None
         release_free_memory()
-        if cancel.is_set() or outcome is None:
+        if outcome is None or (cancel.is_set() and abandon):
             raise Cancelled()
         result, error = outcome
         if error is not None:
@@ -112,10 +116,13 @@ class FileJobs(QtCore.QObject):
         return result
 
     def cancel(self) -> None:
-        """Abandon the running job (if any): ``run`` returns at once by raising :class:`Cancelled`."""
+        """Cancel the running job (if any): ``run`` raises :class:`Cancelled` (see ``abandon``)."""
         if self._cancel is not None and self._loop is not None:
             self._cancel.set()
-            self._loop.quit()
+            if self._abandon:
+                self._loop.quit()
+            else:
+                self.window.statusBar().showMessage("Cancelling…")
 
     # --- the status bar --------------------------------------------------------------------------
     def _start_progress(self, title: str) -> None:

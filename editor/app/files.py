@@ -38,11 +38,11 @@ class FileOps:
             jobs = self._file_jobs = FileJobs(self)
         return jobs
 
-    def _file_job(self, title: str, work):
+    def _file_job(self, title: str, work, abandon: bool = True):
         """Run ``work(progress)`` as a file job; ``None`` (and a status message) when it did not run
         to the end. Errors of the work itself are raised."""
         try:
-            return self.file_jobs.run(title, work)
+            return self.file_jobs.run(title, work, abandon)
         except Cancelled:
             self.statusBar().showMessage(f"{title}: cancelled, nothing was changed.", 8000)
         except FileJobBusy as err:
@@ -171,7 +171,8 @@ class FileOps:
         snapshot, history = document_snapshot(self.doc), self.undo_stack.index()
         try:
             done = self._file_job(f"Saving {target.name}",
-                                  lambda progress: write_gpx(snapshot, target, progress=progress) or True)
+                                  lambda progress: write_gpx(snapshot, target, progress=progress) or True,
+                                  abandon=False)  # "cancelled" must mean "nothing was written"
         except TrackFileError as err:
             self.show_file_error("Cannot save", err)
             return False
