@@ -17,7 +17,7 @@ and an undo step costs only what its edit changed.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any, Mapping
 
 import numpy as np
@@ -184,7 +184,7 @@ class ReplaceTrackPoints:
     track: int
     points: PointTable
     segment_starts: np.ndarray
-    segment_extra: list = field(default=None)  # None keeps the current per-segment payloads
+    segment_extra: list | None = None  # None keeps the current per-segment payloads
 
     def apply(self, doc: Document) -> "ReplaceTrackPoints":
         t = doc.tracks[self.track]

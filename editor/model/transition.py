@@ -18,6 +18,8 @@ this way (reordered rows, a changed number of segments) fall back to
 """
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 from .document import Track
@@ -84,7 +86,7 @@ def transition_edit(track_index: int, original: Track, points: PointTable, segme
             or (len(kept) and (kept[0] < 0 or kept[-1] >= len(old))):
         return ReplaceTrackPoints(track_index, points, segment_starts, segment_extra)
 
-    steps = []
+    steps: list[Any] = []
     removed = np.setdiff1d(np.arange(len(old), dtype=np.int64), kept, assume_unique=True)
     if len(removed):
         steps.append(DeletePoints(track_index, removed))
