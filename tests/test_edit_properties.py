@@ -92,6 +92,7 @@ def test_random_tools_and_edits_undo_to_the_exact_original(seed, n, segments, st
     for name, s, use_selection in steps:
         current = doc.tracks[0]
         m = len(current.points)
+        expected = None
         if name == "delete":
             if m < 3:
                 continue
@@ -113,10 +114,34 @@ def test_random_tools_and_edits_undo_to_the_exact_original(seed, n, segments, st
             if proposal.is_noop():
                 continue
             edit = proposal.edit()
+            expected = copy_track(proposal.as_track(current))
+        shared = Track(current.points.shared(), current.segment_starts.copy(), current.name, current.extra,
+                       list(current.segment_extra))  # what a preview worker holds: the same arrays
+        before = copy_track(current)
         inverses.append(edit.apply(doc))
         states.append(copy_track(doc.tracks[0]))
+        # the compact edit (deletes, inserts, changed cells) gives exactly the proposed track ...
+        assert expected is None or doc.tracks[0].equals(expected)
+        # ... and no edit writes into arrays that snapshots and undo steps share
+        assert shared.equals(before)
     redos = [inverse.apply(doc) for inverse in reversed(inverses)]
     assert doc.tracks[0].equals(original)
     for redo, state in zip(reversed(redos), states):
         redo.apply(doc)
         assert doc.tracks[0].equals(state)
+
+
+@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(seed=st.integers(0, 10_000), n=st.integers(5, 200), use_selection=st.booleans())
+def test_tools_never_write_into_the_track_they_are_given(seed, n, use_selection):
+    """Preview workers get a snapshot that shares the document's arrays (edits copy on write), so a
+    tool writing in place would change the document behind the undo history. Frozen arrays catch it."""
+    track = invented_track(seed, n, 2)
+    expected = copy_track(track)
+    for column in track.points.columns().values():
+        column.flags.writeable = False
+    rows = np.arange(n // 4, n // 2) if use_selection else None
+    for name, entry in sorted(TOOLS.items()):
+        proposal = entry.function(track, PARAMS[name](seed), rows=rows, track_index=0)
+        proposal.edit()
+    assert track.equals(expected)

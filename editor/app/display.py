@@ -89,6 +89,10 @@ class DisplayController(QtCore.QObject):
         track = session.track()
         same_track = self._geometry_key == (id(session.doc), state.track)
         previous = self.geometry if same_track and not fit else None
+        hint = window.previews.applied_hint
+        if hint is not None and hint.fits(session) and track is not None and len(hint.lat) == len(track.points):
+            # an applied tool: its worker already projected the new points
+            previous = TrackGeometry.planar(hint.lat, hint.lon, *hint.xy)
         geometry = (TrackGeometry.from_track(track, window.projection, previous) if track is not None
                     else TrackGeometry.empty())
         self._geometry_key = (id(session.doc), state.track)
@@ -112,7 +116,11 @@ class DisplayController(QtCore.QObject):
     def update_totals(self) -> None:
         """Totals of the shown track from the core's statistics."""
         track = self.session.track()
-        self.totals = track_totals(track) if track is not None else None
+        hint, self.window.previews.applied_hint = self.window.previews.applied_hint, None
+        if hint is not None and hint.fits(self.session):
+            self.totals = hint.totals  # the applied proposal's "after" totals are this track's
+        else:
+            self.totals = track_totals(track) if track is not None else None
         if self.session.state.preview is None:
             self.window.totals_panel.set_totals(self.totals)
 

@@ -14,6 +14,7 @@ from ..commands import EditCommand
 from ..model import hand_edits
 from ..model.document import Track
 
+from . import dialogs
 from .session import Session
 
 if TYPE_CHECKING:
@@ -89,7 +90,7 @@ class EditController:
         count = hand_edits.backward_time_count(track) if track is not None else 0
         if not count:
             return
-        answer = QtWidgets.QMessageBox.question(
+        answer = dialogs.ask(
             self.window, "Times out of order",
             f"{count:,} point{'s' if count != 1 else ''} of this track "
             f"{'have times' if count != 1 else 'has a time'} earlier than the point before.\n\n"

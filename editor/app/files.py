@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import os
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any, Callable
 
 from PySide6 import QtWidgets
 
@@ -12,6 +12,8 @@ from ..io.errors import TrackFileError
 from ..io.export import write_document
 from ..io.gpx import write_gpx
 from .. import CAUTION, __version__
+from . import dialogs
+from .file_jobs import Cancelled, FileJobBusy, FileJobs
 from .session import Session
 
 if TYPE_CHECKING:
@@ -26,6 +28,26 @@ class FileController:
     def __init__(self, window: MainWindow, session: Session) -> None:
         self.window = window
         self.session = session
+        self._jobs: FileJobs | None = None
+
+    @property
+    def jobs(self) -> FileJobs:
+        """Reads and writes files off the UI thread (progress and Cancel in the status bar, which the
+        window builds after its controllers: hence made on first use)."""
+        if self._jobs is None:
+            self._jobs = FileJobs(self.window)
+        return self._jobs
+
+    def _file_job(self, title: str, work: Callable[[Callable[[float], None]], Any], abandon: bool = True) -> Any:
+        """Run ``work(progress)`` as a file job; ``None`` (and a status message) when it did not run
+        to the end. Errors of the work itself are raised."""
+        try:
+            return self.jobs.run(title, work, abandon)
+        except Cancelled:
+            self.window.statusBar().showMessage(f"{title}: cancelled, nothing was changed.", 8000)
+        except FileJobBusy as err:
+            self.window.statusBar().showMessage(f"{title}: not now, {err}.", 8000)
+        return None
 
     # --- opening ----------------------------------------------------------------------------------
     def open_dialog(self) -> None:
@@ -42,12 +64,14 @@ class FileController:
         if not confirmed and not self.confirm_discard("opening another file"):
             return False
         window = self.window
+        history = window.undo_stack.index()
         try:
-            doc = read_document(path)
+            doc = self._file_job(f"Reading {Path(path).name}",
+                                 lambda progress: read_document(path, progress=progress))
         except TrackFileError as err:
             partial = getattr(err, "partial", None)
             if partial is not None and partial.point_count:
-                answer = QtWidgets.QMessageBox.question(
+                answer = dialogs.ask(
                     window, "File is incomplete",
                     f"{err}\n\nThe file stops early. Open the {partial.point_count:,} points read before "
                     "the problem, read-only? Saving a cleaned copy writes only those points; the copy "
@@ -64,6 +88,10 @@ class FileController:
         except OSError as err:
             self.show_file_error("Cannot open the file", TrackFileError(path, err.strerror or str(err)))
             return False
+        if doc is None:  # cancelled: the shown document stays as it was
+            return False
+        if window.undo_stack.index() != history and not self.confirm_discard("opening another file"):
+            return False  # edited while the file was being read
         window.display.set_document(doc, path)
         self._remember(path)
         window.statusBar().showMessage(f"Opened {Path(path).name}", 5000)
@@ -72,9 +100,10 @@ class FileController:
 
     def show_file_error(self, title: str, err: TrackFileError) -> None:
         where = f"line {err.line}" if err.line else "the file"
-        text = (f"<b>{Path(err.path).name if err.path else 'The data'}</b>: {err.problem}"
-                f"<br><br>Where: {err.path or '—'}, {where}.")
-        QtWidgets.QMessageBox.warning(self.window, title, text)
+        # plain text: the problem quotes the file, which may hold anything ("<ele>", "<img ...>")
+        text = (f"{Path(err.path).name if err.path else 'The data'}: {err.problem}"
+                f"\n\nWhere: {err.path or '—'}, {where}.")
+        dialogs.warn(self.window, title, text)
         self.window.statusBar().showMessage(str(err), 10000)
 
     def _remember(self, path: str | os.PathLike) -> None:
@@ -89,7 +118,7 @@ class FileController:
         files = self.window.settings.recent_files()
         for i, name in enumerate(files):
             action = menu.addAction(f"&{i + 1} {Path(name).name}")
-            action.setToolTip(name)
+            action.setToolTip(dialogs.plain_tooltip(name))
             action.triggered.connect(lambda _checked=False, n=name: self.open_path(n))
         if files:
             menu.addSeparator()
@@ -113,7 +142,7 @@ class FileController:
                     f"the original is kept as a backup:\n{next_backup_name(target)}\n\nReplace the original?")
         else:
             text = f"{target.name} already exists. Replace it?"
-        answer = QtWidgets.QMessageBox.warning(
+        answer = dialogs.warn(
             self.window, "Replace file?", text,
             QtWidgets.QMessageBox.StandardButton.Yes | QtWidgets.QMessageBox.StandardButton.Cancel,
             QtWidgets.QMessageBox.StandardButton.Cancel)
@@ -137,14 +166,23 @@ class FileController:
         if not self.confirm_overwrite(target):
             return False
         window = self.window
+        snapshot, history = self.session.doc.snapshot(), window.undo_stack.index()
         try:
-            write_gpx(self.session.doc, target)
+            done = self._file_job(f"Saving {target.name}",
+                                  lambda progress: write_gpx(snapshot, target, progress=progress) or True,
+                                  abandon=False)  # "cancelled" must mean "nothing was written"
         except TrackFileError as err:
             self.show_file_error("Cannot save", err)
             return False
         except OSError as err:
             self.show_file_error("Cannot save", TrackFileError(target, err.strerror or str(err)))
             return False
+        if not done:
+            return False
+        if window.undo_stack.index() != history:  # edited while saving: those edits are not in the copy
+            self.session.saved_copy_path = target
+            window.statusBar().showMessage(f"Saved {target.name} without the edits made while saving.", 8000)
+            return True
         window.undo_stack.setClean()
         window.recovery.saved(target)
         if self.session.saved_copy(target):
@@ -184,7 +222,7 @@ class FileController:
         if self.window.undo_stack.isClean():
             return True
         buttons = QtWidgets.QMessageBox.StandardButton
-        answer = QtWidgets.QMessageBox.question(
+        answer = dialogs.ask(
             self.window, "Unsaved changes",
             f"The track has changes that are not saved. Save a cleaned copy before {doing}?",
             buttons.Save | buttons.Discard | buttons.Cancel, buttons.Save)

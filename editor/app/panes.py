@@ -3,6 +3,8 @@ from __future__ import annotations
 
 from PySide6 import QtCore, QtWidgets
 
+from .dialogs import plain_tooltip
+
 
 class ElidedLabel(QtWidgets.QLabel):
     """A one-line label that shortens its text with "…" instead of widening the window."""
@@ -10,12 +12,13 @@ class ElidedLabel(QtWidgets.QLabel):
     def __init__(self, text: str = "", parent=None) -> None:
         super().__init__(parent)
         self._full = text
+        self.setTextFormat(QtCore.Qt.TextFormat.PlainText)  # readouts can quote the file (point names)
         self.setSizePolicy(QtWidgets.QSizePolicy.Policy.Ignored, QtWidgets.QSizePolicy.Policy.Preferred)
         self.setText(text)
 
     def setText(self, text: str) -> None:  # noqa: N802 (Qt override)
         self._full = text
-        self.setToolTip(text)
+        self.setToolTip(plain_tooltip(text))
         self._elide()
 
     def full_text(self) -> str:

@@ -7,7 +7,7 @@ projection) live in the session's per-revision cache.
 """
 from __future__ import annotations
 
-from dataclasses import replace
+from dataclasses import dataclass, replace
 from typing import TYPE_CHECKING, Any, Callable
 
 import numpy as np
@@ -27,6 +27,22 @@ if TYPE_CHECKING:
     from .window import MainWindow
 
 
+@dataclass(frozen=True)
+class AppliedHint:
+    """What an applied proposal already computed for the state it produced (document revision
+    ``revision``, track ``track``): its planar coordinates and totals, reused by the views."""
+
+    revision: int
+    track: int
+    lat: np.ndarray
+    lon: np.ndarray
+    xy: tuple
+    totals: Any
+
+    def fits(self, session: Session) -> bool:
+        return (self.revision, self.track) == (session.revision, session.state.track)
+
+
 class PreviewController(QtCore.QObject):
     """Previews, apply, discard and long jobs of one window."""
 
@@ -41,6 +57,7 @@ class PreviewController(QtCore.QObject):
         self.runner.failed.connect(self._preview_failed)
         self.runner.started.connect(lambda: window.tool_dock.set_status("Computing the proposal…"))
         self.long_job: LongJob | None = None
+        self.applied_hint: AppliedHint | None = None
 
     # --- tool previews ----------------------------------------------------------------------------
     def request_preview(self, tool: ToolDescriptor, params: Any, selection_only: bool,
@@ -77,6 +94,7 @@ class PreviewController(QtCore.QObject):
             # Project the proposal for the map here, off the UI thread (pyproj objects stay
             # in the thread that made them).
             xy = LocalProjection(lat0, lon0).to_xy(proposal.points.lat, proposal.points.lon)
+            proposal.edit()  # the undo step's "what changed" is worked out here, not when applying
             return proposal, xy
 
         self.runner.request(work, immediately=immediately)
@@ -133,12 +151,16 @@ class PreviewController(QtCore.QObject):
             status.showMessage("There is no proposal to apply yet.", 5000)
             return False
         self.runner.cancel()
+        xy = self.window.map_view.proposal_xy(proposal)  # projected by the worker: not again on the UI thread
         self.session.state.set_preview(None)
         if proposal.is_noop():
             status.showMessage("The proposal changes nothing.", 5000)
             return False
         if not self.window.editing.push_edit(proposal.edit(), proposal.label):
             return False
+        # the views redraw in the next event-loop turn and take this instead of projecting again
+        self.applied_hint = AppliedHint(self.session.revision, self.session.state.track,
+                                        proposal.points.lat, proposal.points.lon, xy, proposal.after)
         self.window.recovery.record_now()
         status.showMessage(f"Applied: {proposal.label}", 5000)
         return True

@@ -30,6 +30,7 @@ from ..recovery import (
     replay,
     set_aside,
 )
+from . import dialogs
 
 _WRITE_ERRORS = (OSError, sqlite3.Error, TypeError, ValueError)
 
@@ -147,7 +148,7 @@ def offer_recovery(window) -> bool:
             continue
         name = Path(entry.source_path).name
         steps = "\n".join(f"  • {label}" for label in entry.labels[-8:])
-        answer = QtWidgets.QMessageBox.question(
+        answer = dialogs.ask(
             window, "Restore unsaved edits?",
             f"Trackwright stopped before saving the edits to {name}:\n{steps}\n\n"
             "Restore them now? (No deletes this recovery journal.)")
@@ -160,7 +161,7 @@ def offer_recovery(window) -> bool:
 
 def tell_not_restored(window, item: UnreadableJournal) -> None:
     where = item.moved_to or item.path
-    QtWidgets.QMessageBox.warning(
+    dialogs.warn(
         window, "Unsaved edits could not be restored",
         f"A recovery journal could not be restored: {item.reason}.\n\n"
         f"Nothing in it was run. It was kept here:\n{where}")

@@ -96,13 +96,14 @@ class Session:
 
     # --- what previews reuse ----------------------------------------------------------------------
     def snapshot(self) -> Track | None:
-        """An immutable copy of the shown track, taken once per revision and track."""
+        """An immutable copy of the shown track, taken once per revision and track (the columns are
+        shared: edits copy on write, so this costs nothing at a million points)."""
         track = self.track()
         if track is None:
             return None
         key = (self.revision, self.state.track)
         if self._snapshot is None or self._snapshot[:2] != key:
-            self._snapshot = (*key, track.copy())
+            self._snapshot = (*key, track.snapshot())
         return self._snapshot[2]
 
     def preview_cache(self) -> dict[Any, Any]:

@@ -18,6 +18,7 @@ from ..views.map_view import MapView
 from ..views.profile_view import ProfileView
 from ..views.style import Palette
 from ..units import offset_label
+from . import dialogs
 from .actions import build_actions
 from .display import DisplayController
 from .editing import EditController
@@ -106,8 +107,8 @@ class MainWindow(QtWidgets.QMainWindow):
         self.resizeDocks([self.tools_dock, self.totals_dock, self.history_dock], [560, 230, 170],
                          QtCore.Qt.Orientation.Vertical)
 
-        self.status_points = QtWidgets.QLabel("")
-        self.status_units = QtWidgets.QLabel("")
+        self.status_points = dialogs.plain_label("")
+        self.status_units = dialogs.plain_label("")
         self.progress = QtWidgets.QProgressBar()
         self.progress.setRange(0, 1000)
         self.progress.setMaximumWidth(180)
@@ -228,6 +229,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.settings.sync()
         self.previews.runner.cancel()
         self.previews.cancel_long_job()
+        self.files.jobs.cancel()
         for view in self.views:
             view.detach()
         self.pool.shutdown()

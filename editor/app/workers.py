@@ -1,10 +1,10 @@
 """Background work: tool previews and long estimates off the UI thread.
 
 A control change restarts a short debounce timer; when it fires, the tool runs
-on a worker thread on an immutable snapshot of the track (a deep copy taken
-once per document revision). Every request gets a generation number and a
-result whose generation is no longer the newest is dropped, so a slow old
-computation can never overwrite a newer preview.
+on a worker thread on an immutable snapshot of the track (taken once per
+document revision; it shares the columns, which edits never write in place).
+Every request gets a generation number and a result whose generation is no
+longer the newest is dropped, so a slow old computation can never overwrite a newer preview.
 """
 from __future__ import annotations
 

@@ -16,18 +16,20 @@ from ..model.document import Document
 from .gpx import read_gpx
 
 #: Reader per lower-case file extension.
-READERS: dict[str, Callable[[str | os.PathLike], Document]] = {".gpx": read_gpx}
+#: A reader takes the path and, as a keyword, ``progress`` (called with the fraction done; it may
+#: raise to abandon the read).
+READERS: dict[str, Callable[..., Document]] = {".gpx": read_gpx}
 #: The reader for an extension not in :data:`READERS`.
 DEFAULT_READER = read_gpx
 
 
-def read_document(path: str | os.PathLike) -> Document:
+def read_document(path: str | os.PathLike, progress: Callable[[float], None] | None = None) -> Document:
     """Read any supported track file into a :class:`Document`.
 
     Raises :class:`~editor.io.errors.TrackFileError` naming the file and the place of the
     problem (with ``partial`` set for a file cut off part way), or ``OSError``.
     """
-    return READERS.get(Path(path).suffix.lower(), DEFAULT_READER)(path)
+    return READERS.get(Path(path).suffix.lower(), DEFAULT_READER)(path, progress=progress)
 
 
 __all__ = ["read_document", "READERS"]

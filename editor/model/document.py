@@ -88,6 +88,12 @@ class Track:
         return Track(points=self.points.copy(), segment_starts=self.segment_starts.copy(), name=self.name,
                      extra=self.extra, segment_extra=list(self.segment_extra))
 
+    def snapshot(self) -> "Track":
+        """A copy that later edits cannot reach, made in no time: the point columns are shared, which is
+        safe because edits never write into a document's arrays (they copy on write)."""
+        return Track(points=self.points.shared(), segment_starts=self.segment_starts.copy(), name=self.name,
+                     extra=self.extra, segment_extra=list(self.segment_extra))
+
     def equals(self, other: "Track") -> bool:
         return (self.points.equals(other.points)
                 and np.array_equal(self.segment_starts, other.segment_starts)
@@ -113,6 +119,10 @@ class Route:
     def copy(self) -> "Route":
         """An independent copy (new point table; the opaque payload is shared)."""
         return Route(points=self.points.copy(), name=self.name, extra=self.extra)
+
+    def snapshot(self) -> "Route":
+        """Like :meth:`Track.snapshot`: the columns are shared."""
+        return Route(points=self.points.shared(), name=self.name, extra=self.extra)
 
     def equals(self, other: "Route") -> bool:
         return self.points.equals(other.points) and self.name == other.name and self.extra == other.extra
@@ -141,6 +151,13 @@ class Document:
         """An independent copy of the content, not tied to a file (``source_path`` is ``None``)."""
         return Document(tracks=[t.copy() for t in self.tracks], routes=[r.copy() for r in self.routes],
                         waypoints=self.waypoints.copy(), extra=self.extra, source_path=None,
+                        warnings=list(self.warnings))
+
+    def snapshot(self) -> "Document":
+        """A copy for another thread (a writer), made in no time (see :meth:`Track.snapshot`); it keeps
+        ``source_path``."""
+        return Document(tracks=[t.snapshot() for t in self.tracks], routes=[r.snapshot() for r in self.routes],
+                        waypoints=self.waypoints.shared(), extra=self.extra, source_path=self.source_path,
                         warnings=list(self.warnings))
 
     def equals(self, other: "Document") -> bool:

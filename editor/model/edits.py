@@ -9,16 +9,21 @@ command only has to keep the pair::
 
 Each ``apply`` emits ``doc.changed`` once with the track index it touched.
 Row indices always refer to the track's concatenated point table.
+
+Edits never write into the arrays of a document's point tables: they build new
+tables that share every column they leave alone (copy on write). Undo steps,
+previews and worker snapshots can therefore hold the same arrays as the document,
+and an undo step costs only what its edit changed.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any, Mapping
 
 import numpy as np
 
 from .document import Document, check_segment_starts
-from .points import PointTable, set_columns
+from .points import PointTable, replace_values
 
 
 def _rows(index) -> np.ndarray:
@@ -36,7 +41,9 @@ class SetValues:
 
     def apply(self, doc: Document) -> "SetValues":
         t = doc.tracks[self.track]
-        old = set_columns(t.points, self.rows, self.values)
+        # Copy on write: the previous table (and every column this edit leaves alone) may be
+        # held by other undo steps, previews and worker snapshots.
+        t.points, old = replace_values(t.points, self.rows, self.values)
         doc.changed.emit(self.track)
         return SetValues(self.track, self.rows, old)
 
@@ -177,7 +184,7 @@ class ReplaceTrackPoints:
     track: int
     points: PointTable
     segment_starts: np.ndarray
-    segment_extra: list = field(default=None)  # None keeps the current per-segment payloads
+    segment_extra: list | None = None  # None keeps the current per-segment payloads
 
     def apply(self, doc: Document) -> "ReplaceTrackPoints":
         t = doc.tracks[self.track]
@@ -187,8 +194,9 @@ class ReplaceTrackPoints:
         if len(extra) != len(starts):
             raise ValueError("segment_extra must have one entry per segment")
         check_segment_starts(starts, len(self.points))
-        # Store a copy so that later in-place edits never reach the proposal that produced it.
-        t.points = self.points.copy()
+        # Shared, not copied: edits never write into a document's arrays (they copy on write), so
+        # the undo history and the document can hold the same columns.
+        t.points = self.points.shared()
         t.segment_starts = starts
         t.segment_extra = extra
         doc.changed.emit(self.track)

@@ -101,6 +101,10 @@ class PointTable:
     def copy(self) -> "PointTable":
         return PointTable(**{k: v.copy() for k, v in self.columns().items()})
 
+    def shared(self) -> "PointTable":
+        """A new table object over the same column arrays (cheap; safe because edits copy on write)."""
+        return PointTable(**self.columns())
+
     def take(self, index) -> "PointTable":
         """Rows at ``index`` (slice, integer array or boolean mask), as a new table."""
         return PointTable(**{k: np.array(v[index], copy=True) for k, v in self.columns().items()})
@@ -138,8 +142,48 @@ def _objects_equal(a: np.ndarray, b: np.ndarray) -> bool:
     return all(x == y for x, y in zip(a.tolist(), b.tolist()))
 
 
+def covers_every_row(index, n: int) -> bool:
+    """True when ``index`` is exactly ``0, 1, ..., n-1`` (writing there replaces whole columns)."""
+    if isinstance(index, slice):
+        return index.indices(n) == (0, n, 1)
+    rows = np.asarray(index)
+    if rows.dtype.kind not in "iu" or rows.shape != (n,):
+        return False
+    return n == 0 or (int(rows[0]) == 0 and int(rows[-1]) == n - 1 and bool(np.all(np.diff(rows) == 1)))
+
+
+def replace_values(table: PointTable, index, values: Mapping[str, np.ndarray]
+                   ) -> tuple[PointTable, dict[str, np.ndarray]]:
+    """A new table with ``values`` written into rows ``index``, and the previous values.
+
+    Copy-on-write: ``table`` and its arrays are left untouched, and the new table shares every
+    column ``values`` does not name. When ``index`` covers every row, the given arrays become the
+    new columns and the previous columns are returned as they are, so neither side is copied;
+    this is why column arrays held by a document must never be written in place.
+    """
+    columns = table.columns()
+    whole = covers_every_row(index, len(table))
+    old = {}
+    for key, new in values.items():
+        if key not in ALL_COLUMNS:
+            raise KeyError(f"unknown point column {key!r}")
+        column = columns[key]
+        new = np.asarray(new) if column.dtype != object else new
+        if whole and isinstance(new, np.ndarray) and new.shape == column.shape and new.dtype == column.dtype:
+            old[key], columns[key] = column, new
+            continue
+        old[key] = np.array(column[index], copy=True)
+        column = column.copy()
+        column[index] = new
+        columns[key] = column
+    return PointTable(**columns), old
+
+
 def set_columns(table: PointTable, index, values: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
-    """Write ``values`` into rows ``index`` in place; return the previous values."""
+    """Write ``values`` into rows ``index`` in place; return the previous values.
+
+    Only for tables nothing else shares (a tool's own working copy); document edits use
+    :func:`replace_values`."""
     old = {}
     for key, new in values.items():
         if key not in ALL_COLUMNS:

@@ -76,6 +76,7 @@ class ToolPanel(QtWidgets.QWidget):
             buttons.addWidget(b)
         outer.addLayout(buttons)
         self.status = QtWidgets.QLabel("")
+        self.status.setTextFormat(QtCore.Qt.TextFormat.PlainText)  # may quote an error about the file
         self.status.setWordWrap(True)
         outer.addWidget(self.status)
         outer.addStretch(1)

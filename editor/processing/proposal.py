@@ -15,6 +15,7 @@ import numpy as np
 from ..model.document import Track
 from ..model.edits import ReplaceTrackPoints
 from ..model.points import PointTable
+from ..model.transition import share_unchanged, transition_edit
 from .stats import StatsParams, Totals, track_totals
 
 
@@ -54,6 +55,9 @@ class Proposal:
     sigma_h_m: np.ndarray | None = None
     sigma_v_m: np.ndarray | None = None
     info: dict[str, Any] = field(default_factory=dict)
+    #: the track the proposal was computed from; lets :meth:`edit` store only what changed
+    base_track: Track | None = field(default=None, repr=False)
+    _edit: Any = field(default=None, init=False, repr=False, compare=False)
 
     @property
     def inserted(self) -> np.ndarray:
@@ -71,11 +75,20 @@ class Proposal:
         return Track(points=self.points, segment_starts=self.segment_starts, name=original.name,
                      extra=original.extra, segment_extra=extra)
 
-    def edit(self) -> ReplaceTrackPoints:
-        """The reversible edit that applies this proposal to the document."""
-        # segment_extra None keeps the segments' payloads (ReplaceTrackPoints' own default)
-        return ReplaceTrackPoints(self.track, self.points, self.segment_starts,
-                                  self.segment_extra)  # type: ignore[arg-type]
+    def edit(self) -> Any:
+        """The reversible edit that applies this proposal to the document (its track must still
+        equal the one the proposal was computed from).
+
+        Spelled as what changed (deleted rows, inserted rows, changed cells or whole changed
+        columns, see :mod:`editor.model.transition`) so that the undo step keeps only that.
+        """
+        if self._edit is None:  # built once: the window builds it on the preview worker
+            if self.base_track is None:
+                self._edit = ReplaceTrackPoints(self.track, self.points, self.segment_starts, self.segment_extra)
+            else:
+                self._edit = transition_edit(self.track, self.base_track, self.points, self.segment_starts,
+                                             self.source_rows, self.segment_extra)
+        return self._edit
 
 
 def make_proposal(tool: str, label: str, track_index: int, original: Track, points: PointTable,
@@ -97,6 +110,9 @@ def make_proposal(tool: str, label: str, track_index: int, original: Track, poin
         a, b = getattr(points, key)[from_old], getattr(old, key)[src]
         changed[from_old] |= ~((a == b) | (np.isnan(a) & np.isnan(b)))
     changed[from_old] |= points.time[from_old].view("int64") != old.time[src].view("int64")
+    if len(points) == len(old) and np.array_equal(source_rows, np.arange(len(old))):
+        # columns the tool left alone are shared with the original, not held twice
+        points = share_unchanged(points, old)
     kept = np.zeros(len(old), dtype=bool)
     kept[src] = True
     removed = np.flatnonzero(~kept)
@@ -108,4 +124,5 @@ def make_proposal(tool: str, label: str, track_index: int, original: Track, poin
                     segment_starts=segment_starts, source_rows=source_rows, changed=changed,
                     removed=removed,
                     before=track_totals(original, stats_params) if before is None else before,
-                    after=track_totals(proposed, stats_params), segment_extra=extra, **kwargs)
+                    after=track_totals(proposed, stats_params), segment_extra=extra, base_track=original,
+                    **kwargs)

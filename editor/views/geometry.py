@@ -71,6 +71,12 @@ class TrackGeometry:
                    p.lon.copy())
 
     @classmethod
+    def planar(cls, lat: np.ndarray, lon: np.ndarray, x_m: np.ndarray, y_m: np.ndarray) -> "TrackGeometry":
+        """Only known planar coordinates of ``lat``/``lon``: a ``previous`` for :meth:`from_track`."""
+        z = np.zeros(0)
+        return cls(x_m, y_m, z, z, z, np.zeros(1, dtype=np.int64), lat, lon)
+
+    @classmethod
     def empty(cls) -> "TrackGeometry":
         z = np.zeros(0)
         return cls(z, z, z, z, z, np.zeros(1, dtype=np.int64), z, z)

@@ -5,6 +5,7 @@ import numpy as np
 
 from editor.app.session import Session, cleaned_copy_name
 from editor.model import Document, PointTable, Track
+from editor.model.edits import SetValues
 
 
 def two_tracks() -> Document:
@@ -25,10 +26,10 @@ def test_caches_belong_to_one_revision_and_track():
     session.state.set_track(0)
     session.edited()
     assert session.preview_cache() == {} and session.snapshot() is not snapshot
-    # the snapshot is a copy: later edits of the document cannot reach it
+    # the snapshot shares the columns, and edits copy on write: a later edit cannot reach it
     taken = session.snapshot()
-    session.doc.tracks[0].points.lat[0] = 0.0
-    assert taken.points.lat[0] == 46.0
+    SetValues(0, np.array([0]), {"lat": np.array([0.0])}).apply(session.doc)
+    assert session.doc.tracks[0].points.lat[0] == 0.0 and taken.points.lat[0] == 46.0
 
 
 def test_copies_and_the_salvaged_document(tmp_path):

@@ -26,6 +26,9 @@ class DialogRecorder:
     warning_answer: QtWidgets.QMessageBox.StandardButton = QtWidgets.QMessageBox.StandardButton.Cancel
     save_path: str = ""
     open_path: str = ""
+    #: message boxes as shown: title, text, text format, and (when ``render``) the box painted offscreen
+    boxes: list = field(default_factory=list)
+    render: bool = False
 
     def kinds(self) -> list[str]:
         return [kind for kind, _ in self.asked]
@@ -51,6 +54,19 @@ def dialogs(monkeypatch) -> DialogRecorder:
     def about(_parent, title, text):
         rec.asked.append(("about", f"{title}: {text}"))
 
+    kinds = {box.Icon.Question: "question", box.Icon.Warning: "warning", box.Icon.Critical: "warning",
+             box.Icon.Information: "information"}
+    answers = {"question": lambda: rec.question_answer, "warning": lambda: rec.warning_answer}
+
+    def exec_box(self):
+        """A message box built by the window (editor.app.dialogs): recorded, painted, answered, never modal."""
+        kind = kinds.get(self.icon(), "information")
+        rec.asked.append((kind, f"{self.windowTitle()}: {self.text()}"))
+        image = self.grab().toImage() if rec.render else None
+        rec.boxes.append((self.windowTitle(), self.text(), self.textFormat(), image))
+        return answers.get(kind, lambda: box.StandardButton.Ok)()
+
+    monkeypatch.setattr(box, "exec", exec_box)
     monkeypatch.setattr(box, "question", staticmethod(question))
     monkeypatch.setattr(box, "warning", staticmethod(warning))
     monkeypatch.setattr(box, "critical", staticmethod(warning))

@@ -22,6 +22,8 @@ the original file is never overwritten without a backup by :func:`write_gpx`.
 from __future__ import annotations
 
 import gc
+import os
+from collections.abc import Callable
 
 from ...model import Document
 from ..errors import TrackFileError
@@ -35,11 +37,13 @@ from ..source import read_limited
 __all__ = ["read_gpx", "read_gpx_bytes", "write_gpx", "gpx_bytes", "gpx_text", "MAX_FILE_BYTES"]
 
 
-def read_gpx(path) -> Document:
+def read_gpx(path, progress: Callable[[float], None] | None = None) -> Document:
     """Read a GPX 1.1 or 1.0 file.
 
     Only regular files are read (see :func:`editor.io.source.read_limited`):
     a named pipe, a device, a folder or a symbolic-link loop is refused at once.
+    ``progress``, if given, is called from the reading thread with the fraction done (0..1) at a
+    few steps; it may raise to abandon the read (the window's Cancel).
 
     Raises
     ------
@@ -48,7 +52,9 @@ def read_gpx(path) -> Document:
         or broken part way, its ``partial`` attribute holds the points read
         before the break (a :class:`Document` for viewing) or ``None``.
     """
-    return _read(read_limited(path, MAX_FILE_BYTES, size_problem), str(path))
+    if progress is not None:
+        progress(0.0)
+    return _read(read_limited(path, MAX_FILE_BYTES, size_problem), str(path), progress)
 
 
 def read_gpx_bytes(data: bytes, path=None) -> Document:
@@ -59,26 +65,33 @@ def read_gpx_bytes(data: bytes, path=None) -> Document:
     return _read(data, None if path is None else str(path))
 
 
-def _read(data: bytes, path: str | None) -> Document:
+def _read(data: bytes, path: str | None, progress: Callable[[float], None] | None = None) -> Document:
     # Reading builds many small objects and no reference cycles; Python's cycle collector, run
     # again and again as they pile up, doubled the time of reading 100,000 tracks. Paused meanwhile.
     paused = gc.isenabled()
     gc.disable()
     try:
-        return _read_unpaused(data, path)
+        return _read_unpaused(data, path, progress)
     finally:
         if paused:
             gc.enable()
 
 
-def _read_unpaused(data: bytes, path: str | None) -> Document:
+def _read_unpaused(data: bytes, path: str | None, progress: Callable[[float], None] | None) -> Document:
+    step = progress or (lambda _fraction: None)
+    step(0.1)
     if gpx_scan.worth_trying(data):
         validate(data, path)
+        step(0.4)
         doc = _read_scanned(data, path)
         if doc is not None:
+            step(1.0)
             return doc
     reader = TreeReader(parse_root(data, path), path)
-    return reader.document(reader.shape())
+    step(0.6)
+    doc = reader.document(reader.shape())
+    step(1.0)
+    return doc
 
 
 def _read_scanned(data: bytes, path: str | None) -> Document | None:
@@ -104,12 +117,39 @@ def _read_scanned(data: bytes, path: str | None) -> Document | None:
         return None
 
 
-def write_gpx(doc: Document, path, *, backup: bool | None = None) -> None:
+def write_gpx(doc: Document, path, *, backup: bool | None = None,
+              progress: Callable[[float], None] | None = None) -> None:
     """Write ``doc`` as GPX 1.1, atomically (see :func:`editor.io.save.atomic_write`).
 
     ``backup=None`` keeps a backup exactly when ``path`` is the file the
     document was read from, so the original recording is never lost.
+    ``progress``, if given, is called with the estimated fraction written; if it raises, the save
+    is abandoned and nothing is written (the window's Cancel).
     """
     if backup is None:
         backup = same_file(path, doc.source_path)
-    atomic_write(path, gpx_chunks(doc, path), backup=backup)
+    chunks = gpx_chunks(doc, path)
+    if progress is not None:
+        chunks = _reporting(chunks, progress, _expected_bytes(doc))
+    atomic_write(path, chunks, backup=backup)
+
+
+def _expected_bytes(doc: Document) -> int:
+    """About how long the written file will be: the original's size, else ~150 bytes a point."""
+    points = doc.point_count + len(doc.waypoints) + sum(len(r.points) for r in doc.routes)
+    try:
+        if doc.source_path:
+            return max(os.path.getsize(doc.source_path), 1)
+    except OSError:
+        pass
+    return 150 * max(points, 1)
+
+
+def _reporting(chunks, progress: Callable[[float], None], total: int):
+    written = 0
+    progress(0.0)
+    for chunk in chunks:
+        written += len(chunk)
+        progress(min(written / total, 0.99))
+        yield chunk
+    progress(1.0)
