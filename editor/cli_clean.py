@@ -35,16 +35,24 @@ BAR_WIDTH = 24
 
 
 def _smooth_arg(text: str):
-    """``auto``, ``off`` or a strength 0..100 (returned as float)."""
+    """``auto``, ``off`` or a strength on the smoothing panel's scale (returned as float).
+
+    The scale is :data:`editor.processing.smoothing.STRENGTH_LOG10_Q`: 0 keeps the recording
+    exactly, 100 is the smoothest model the automatic estimate may pick.
+    """
+    from .processing.smoothing import STRENGTH_MAX, STRENGTH_MIN
+
     value = text.strip().lower()
     if value in ("auto", "off"):
         return value
     try:
         strength = float(value)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"expected auto, off or a strength 0..100, got {text!r}") from None
-    if not 0.0 <= strength <= 100.0:
-        raise argparse.ArgumentTypeError(f"strength must be between 0 and 100, got {text!r}")
+        raise argparse.ArgumentTypeError(
+            f"expected auto, off or a strength {STRENGTH_MIN:g}..{STRENGTH_MAX:g}, got {text!r}") from None
+    if not STRENGTH_MIN <= strength <= STRENGTH_MAX:
+        raise argparse.ArgumentTypeError(
+            f"strength must be between {STRENGTH_MIN:g} and {STRENGTH_MAX:g}, got {text!r}")
     return strength
 
 
@@ -76,7 +84,8 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     where.add_argument("-d", "--output-dir", type=Path, metavar="DIR",
                        help=f"folder for the cleaned copies, named NAME{OUTPUT_SUFFIX}.gpx")
     p.add_argument("--smooth", type=_smooth_arg, default="auto", metavar="auto|off|STRENGTH",
-                   help="smoothing: auto (maximum likelihood, default), off, or a strength 0..100")
+                   help="smoothing: auto (maximum likelihood, default), off, or a strength as in the editor's "
+                        "smoothing panel: 0 keeps the recording exactly, 100 is the smoothest")
     p.add_argument("--despike", action=argparse.BooleanOptionalAction, default=True,
                    help="remove spikes and the catch-up after signal loss (default on)")
     p.add_argument("--fill-gaps", action=argparse.BooleanOptionalAction, default=True,

@@ -191,3 +191,25 @@ def test_clean_does_not_import_what_default_steps_do_not_use(walk, tmp_path):
     assert run.returncode == 0, run.stderr
     assert run.stdout.strip().splitlines()[-1] == "0"
     assert out.exists()
+
+
+def test_smooth_zero_changes_no_position_or_elevation(walk, tmp_path, capsys):
+    # the panel's scale (editor.processing.smoothing.STRENGTH_LOG10_Q): 0 keeps the recording exactly
+    out = tmp_path / "zero.gpx"
+    assert main(["clean", str(walk), "-o", str(out), "--smooth", "0", "--no-despike", "--no-fill-gaps",
+                 "--no-stops"]) == 0
+    before, after = read_gpx(walk).tracks[0].points, read_gpx(out).tracks[0].points
+    assert np.array_equal(before.lat, after.lat) and np.array_equal(before.lon, after.lon)
+    assert np.array_equal(before.ele, after.ele)
+    # with the other steps on, the smoothing step itself moves nothing
+    import argparse
+
+    from editor.cli_clean import add_parser, clean_params
+    from editor.processing.pipeline import clean_document
+
+    parser = argparse.ArgumentParser()
+    add_parser(parser.add_subparsers())
+    args = parser.parse_args(["clean", str(walk), "-o", str(out), "--smooth", "0"])
+    _, report = clean_document(read_gpx(walk), clean_params(args))
+    smoothing = [s for s in report.steps if s.tool == "smooth"]
+    assert smoothing and smoothing[0].changed == 0 and smoothing[0].before == smoothing[0].after
