@@ -237,6 +237,9 @@ def cmd_clean(args) -> int:
             continue
         bar.close()
         print(f"{src} -> {dst}: {summary_line(report)}")
+        for step in report.steps:
+            for note in step.notes:
+                print(f"  {step.label}, track {step.track + 1}: {note}")
     if failures < len(inputs):
         print(f"Note: {CAUTION}")
     return 2 if failures else 0

@@ -213,3 +213,26 @@ def test_smooth_zero_changes_no_position_or_elevation(walk, tmp_path, capsys):
     _, report = clean_document(read_gpx(walk), clean_params(args))
     smoothing = [s for s in report.steps if s.tool == "smooth"]
     assert smoothing and smoothing[0].changed == 0 and smoothing[0].before == smoothing[0].after
+
+
+def test_clean_of_the_tunnel_ride_reaches_the_truth_and_reports_skipped_gaps(tmp_path, capsys):
+    import json
+
+    from editor.processing.stats import track_totals
+
+    # outside reference: the demo generator's noise-free truth and its cleaned_tolerance
+    demo = ROOT / "demo_tracks"
+    truth = json.loads((demo / "demo_tunnel.truth.json").read_text())
+    out = tmp_path / "tunnel-out.gpx"
+    assert main(["clean", str(demo / "demo_tunnel.gpx"), "-o", str(out)]) == 0
+    totals = track_totals(read_gpx(out).tracks[0])
+    tol = truth["cleaned_tolerance"]
+    assert abs(totals.distance_m - truth["true_distance_m"]) <= tol["distance_m"]
+    assert abs(totals.ascent_m - truth["true_ascent_m"]) <= tol["ascent_m"]
+    assert abs(totals.descent_m - truth["true_descent_m"]) <= tol["descent_m"]
+    assert "gap at" not in capsys.readouterr().out
+    # a limit under the tunnel's 113 s: the gap is left, and the summary says where and why
+    short = tmp_path / "tunnel-short.gpx"
+    assert main(["clean", str(demo / "demo_tunnel.gpx"), "-o", str(short), "--max-gap", "60"]) == 0
+    notes = [line for line in capsys.readouterr().out.splitlines() if "gap at" in line]
+    assert len(notes) == 1 and "Fill gaps" in notes[0] and "(113 s without signal), over the 60 s limit" in notes[0]

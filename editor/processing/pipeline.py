@@ -13,10 +13,10 @@ Order of the steps, and why
    signal-loss gap.
 2. **Fill gaps** next: it needs clean context on both sides, and it refills the
    holes the spike step leaves where a catch-up run was removed. Removing a
-   catch-up lengthens its gap; the longest gap filled is measured on the gap as
-   recorded, i.e. ``max_gap_s`` is raised by the longest catch-up removed
-   (``info["catch_up_extra_s"]`` of the spike step), so that a gap short enough
-   to fill stays fillable.
+   catch-up lengthens its gap; the spike step marks the fix after it with the gap
+   as recorded and the gap tool holds its limit against that (see
+   :mod:`editor.io.payload`), so a gap short enough to fill stays fillable, in
+   the window's tools applied one by one exactly as here.
 3. **Collapse stops** before smoothing: the smoother then sees a traveller who
    really stands still instead of metres of jitter, so the strength it picks
    fits the moving parts, and the stops add no distance.
@@ -84,7 +84,8 @@ class CleanParams:
 
 @dataclass(frozen=True)
 class StepReport:
-    """What one step did to one track (counts of rows; ``info`` keeps the tool's scalar numbers)."""
+    """What one step did to one track (counts of rows; ``info`` keeps the tool's scalar numbers;
+    ``notes`` what the tool left alone and why, for a rider)."""
 
     tool: str
     label: str
@@ -95,6 +96,7 @@ class StepReport:
     before: Totals
     after: Totals
     info: dict
+    notes: tuple[str, ...] = ()
 
 
 @dataclass
@@ -175,13 +177,10 @@ def clean_document(doc: Document, params: CleanParams = CleanParams(),
                 if number + 1 < len(steps):
                     plane = replan(plane, out.tracks[index], proposal.source_rows, proposal.changed)
             before = proposal.after
-            if fn is despike and proposal.info.get("catch_up_extra_s", 0.0) > 0:
-                steps[number + 1:] = [(f, replace(p, max_gap_s=p.max_gap_s + proposal.info["catch_up_extra_s"]))
-                                      if f is fill_gaps else (f, p) for f, p in steps[number + 1:]]
             report.steps.append(StepReport(
                 tool=proposal.tool, label=proposal.label, track=index, removed=len(proposal.removed),
                 inserted=len(proposal.inserted), changed=int(proposal.changed.sum()), before=proposal.before,
-                after=proposal.after, info=_scalars(proposal.info)))
+                after=proposal.after, info=_scalars(proposal.info), notes=tuple(proposal.info.get("notes", ()))))
             done += 1
     # every step's proposal already carries the totals before and after it: reuse them per track
     for index, track in enumerate(out.tracks):

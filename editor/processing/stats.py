@@ -173,6 +173,21 @@ def segment_totals(track: Track, params: StatsParams = StatsParams()) -> list[To
             for a, b in track.segment_bounds()]
 
 
+def distance_along(track: Track) -> np.ndarray:
+    """Distance (metres) from the track's start to each point, step by step as in the totals.
+
+    Nothing is counted between segments (a segment starts where the previous one ended);
+    steps with a missing coordinate count 0.
+    """
+    p = track.points
+    steps = step_lengths(p.lat, p.lon) if len(p) > 1 else np.zeros(0)
+    steps = np.where(np.isfinite(steps), steps, 0.0)
+    starts = np.asarray(track.segment_starts, dtype=np.int64)
+    starts = starts[(starts > 0) & (starts < len(p))]
+    steps[starts - 1] = 0.0
+    return np.concatenate(([0.0], np.cumsum(steps))) if len(p) else np.zeros(0)
+
+
 def track_totals(track: Track, params: StatsParams = StatsParams()) -> Totals:
     """Totals of a whole track: the sum over its segments."""
     total = Totals()
