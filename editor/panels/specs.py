@@ -5,9 +5,12 @@ from the field name; entries for fields a tool does not have are ignored.
 """
 from __future__ import annotations
 
+from ..processing.smoothing import STRENGTH_MAX, STRENGTH_MIN
 from .controls import ControlSpec
 
-STRENGTH = dict(minimum=0, maximum=100, step=1, decimals=0, suffix="", slider=True, auto_text="auto")
+#: The smoothing strength scale is defined once, in editor.processing.smoothing (0 keeps the recording).
+STRENGTH = dict(minimum=STRENGTH_MIN, maximum=STRENGTH_MAX, step=1, decimals=0, suffix="", slider=True,
+                auto_text="auto")
 
 #: Per tool function name: (tab title, summary, field specs).
 TOOL_TEXTS: dict[str, tuple[str, str, dict[str, ControlSpec]]] = {
