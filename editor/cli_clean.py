@@ -11,7 +11,8 @@ as recorded, 120 by default), collapse stops,
 smooth (strength chosen by maximum likelihood unless given), simplify (off
 unless ``--simplify METRES``; elevation is kept to the same number of metres
 unless ``--simplify-vertical`` says otherwise, so climb totals survive). Everything the steps do not touch is kept:
-waypoints, routes, metadata and extensions.
+waypoints, routes, metadata and extensions. A GPX output records what was done in its
+metadata (:mod:`editor.io.provenance`).
 
 An input is never overwritten, and an existing output only with ``--overwrite``.
 Output files are written atomically. Exit status: 0 when every file was cleaned,
@@ -25,9 +26,10 @@ import sys
 from pathlib import Path
 
 from .io.errors import TrackFileError
+from .io.provenance import CLEANED_SUFFIX
 
-#: Suffix added to an input's name for its cleaned copy in ``-d`` mode.
-OUTPUT_SUFFIX = "-cleaned"
+#: Suffix added to an input's name for its cleaned copy in ``-d`` mode: the window's too.
+OUTPUT_SUFFIX = CLEANED_SUFFIX
 #: Output formats, by extension (GPX 1.1, GeoJSON, CSV; see editor.io.export).
 OUTPUT_TYPES = (".gpx", ".geojson", ".json", ".csv")
 ACTIVITY_CHOICES = ("auto", "walk", "run", "ride", "drive")
@@ -198,6 +200,15 @@ class ProgressBar:
             self.stream.flush()
 
 
+def cleaning_record(extra, report):
+    """The document's file-level payload with this clean's steps added to its cleaning record."""
+    from . import __version__
+    from .io.provenance import StepRecord, params_record, with_cleaning_record
+
+    steps = [StepRecord(s.tool, s.label, s.track, params_record(s.params, s.info)) for s in report.steps]
+    return with_cleaning_record(extra, steps, __version__)
+
+
 def cmd_clean(args) -> int:
     from .io.export import write_document
     from .io.gpx import read_gpx
@@ -222,6 +233,7 @@ def cmd_clean(args) -> int:
                 bar(0.05 + 0.85 * fraction, what)
 
             cleaned, report = clean_document(doc, params, progress=step)
+            cleaned.extra = cleaning_record(cleaned.extra, report)
             bar(0.92, "writing")
             write_document(cleaned, dst)
             bar(1.0, "done")

@@ -1,5 +1,6 @@
 """``trackwright clean``: outputs, refusals, kept content, options, summary and caution."""
 import io
+from dataclasses import replace
 import subprocess
 import sys
 from pathlib import Path
@@ -63,7 +64,10 @@ def test_clean_one_file_writes_a_valid_cleaned_copy(walk, tmp_path, capsys):
     # everything the steps do not touch is kept
     assert cleaned.waypoints.equals(original.waypoints)
     assert cleaned.routes[0].equals(original.routes[0])
-    assert cleaned.extra == original.extra and cleaned.tracks[0].extra == original.tracks[0].extra
+    assert cleaned.tracks[0].extra == original.tracks[0].extra
+    # the file-level content is kept; the metadata only gains the cleaning record (editor.io.provenance)
+    assert replace(cleaned.extra, metadata=None) == replace(original.extra, metadata=None)
+    assert cleaned.extra.metadata.startswith("<metadata><name>Lake loop</name><desc>invented</desc><extensions>")
     assert cleaned.tracks[0].name == "morning"
     kept = [e for e in cleaned.tracks[0].points.extra if e is not None and "bpm" in str(e)]
     assert len(kept) >= 390

@@ -10,6 +10,7 @@ from PySide6 import QtWidgets
 from ..commands import EditCommand
 from ..commands import hand_edits
 from ..geo.projection import LocalProjection
+from ..io.provenance import StepRecord, params_record
 from ..model.document import Track
 from ..processing.cleaning_base import planar
 from ..processing.stats import track_totals
@@ -32,16 +33,29 @@ class EditOps:
         self.cancel_button.clicked.connect(self.cancel_long_job)
 
     # --- hand edits -------------------------------------------------------------------------------
-    def push_edit(self, edit, label: str) -> bool:
-        """Apply ``edit`` as one undo step named ``label`` (refused while the document is read-only)."""
+    def push_edit(self, edit, label: str, record: StepRecord | None = None) -> bool:
+        """Apply ``edit`` as one undo step named ``label`` (refused while the document is read-only).
+
+        ``record``: what the step is in a saved copy's cleaning record (a hand edit by default).
+        """
         if self.read_only:
             self.statusBar().showMessage(
                 "These points were salvaged from a damaged file and are read-only: "
                 "save a cleaned copy first (Ctrl+S), then edit the copy.", 8000)
             self._rebuild_timer.start()  # a drag already drew the point moved: show the model again
             return False
-        self.undo_stack.push(EditCommand(self.doc, edit, label))
+        command = EditCommand(self.doc, edit, label)
+        command.record = record or StepRecord("edit", label, self.state.track)
+        self.undo_stack.push(command)
         return True
+
+    def cleaning_steps(self) -> list[StepRecord]:
+        """The steps of the undo stack that are applied now, in order, for a saved copy's record."""
+        steps = []
+        for i in range(self.undo_stack.index()):
+            command = self.undo_stack.command(i)
+            steps.append(getattr(command, "record", None) or StepRecord("edit", command.text(), self.state.track))
+        return steps
 
     def _hand_edit(self, build, label: str) -> bool:
         track = self.track()
@@ -180,6 +194,7 @@ class EditOps:
                 kwargs["plane"] = cache["plane"]
             proposal = function(snapshot, strengths(snapshot, params), rows=rows, track_index=track_index,
                                 **kwargs)
+            proposal.params = params  # as the user set them ("auto" stays auto) for the cleaning record
             # Project the proposal for the map here, off the UI thread (pyproj objects stay
             # in the thread that made them).
             xy = LocalProjection(lat0, lon0).to_xy(proposal.points.lat, proposal.points.lon)
@@ -255,7 +270,9 @@ class EditOps:
         if proposal.is_noop():
             self.statusBar().showMessage("The proposal changes nothing.", 5000)
             return False
-        if not self.push_edit(proposal.edit(), proposal.label):
+        record = StepRecord(proposal.tool, proposal.label, proposal.track,
+                            params_record(proposal.params, proposal.info))
+        if not self.push_edit(proposal.edit(), proposal.label, record):
             return False
         self.recovery.record_now()
         self.statusBar().showMessage(f"Applied: {proposal.label}", 5000)

@@ -7,9 +7,8 @@ from pathlib import Path
 from PySide6 import QtWidgets
 
 from ..io.errors import TrackFileError
+from ..io.provenance import CLEANED_SUFFIX, cleaned_copy_name  # noqa: F401  (one name for window and CLI)
 
-#: Added to the original's name for the default cleaned copy: ``ride.gpx`` → ``ride.tidy.gpx``.
-CLEANED_SUFFIX = ".tidy"
 #: The bundled demo ride opened when no file is given.
 DEMO_DIR = Path(__file__).resolve().parents[2] / "demo_tracks"
 DEMO_RIDE = DEMO_DIR / "demo_ride.gpx"
@@ -18,11 +17,8 @@ GPX_FILTER = "GPX track files (*.gpx *.GPX);;All files (*)"
 
 CAUTION = ("Cleaned tracks are estimates, not surveyed data, and are not for navigation. "
            "Check a cleaned track against what you know of the route before relying on it.")
-
-
-def cleaned_copy_name(original: Path) -> Path:
-    """Default name of a cleaned copy, beside the original."""
-    return original.with_name(original.stem + CLEANED_SUFFIX + ".gpx")
+#: The save dialog's title carries the caution too (the file itself records it, editor.io.provenance).
+SAVE_TITLE = "Save cleaned copy: an estimate, not for navigation"
 
 
 class FileOps:
@@ -127,7 +123,7 @@ class FileOps:
         else:
             default = Path.home() / f"track{CLEANED_SUFFIX}.gpx"
         path, _ = QtWidgets.QFileDialog.getSaveFileName(
-            self, "Save cleaned copy", str(default), GPX_FILTER,
+            self, SAVE_TITLE, str(default), GPX_FILTER,
             options=QtWidgets.QFileDialog.Option.DontConfirmOverwrite)
         if not path:
             return False
@@ -139,10 +135,17 @@ class FileOps:
     def write_copy(self, target: Path) -> bool:
         if not self.confirm_overwrite(target):
             return False
+        from dataclasses import replace
+
+        from .. import __version__
         from ..io.gpx import write_gpx
+        from ..io.provenance import with_cleaning_record
 
         try:
-            write_gpx(self.doc, target)
+            # the copy records what was done (program, date, each step with its settings, the caution)
+            recorded = replace(self.doc, extra=with_cleaning_record(self.doc.extra, self.cleaning_steps(),
+                                                                    __version__))
+            write_gpx(recorded, target)
         except TrackFileError as err:
             self.show_file_error("Cannot save", err)
             return False

@@ -85,7 +85,7 @@ class CleanParams:
 @dataclass(frozen=True)
 class StepReport:
     """What one step did to one track (counts of rows; ``info`` keeps the tool's scalar numbers;
-    ``notes`` what the tool left alone and why, for a rider)."""
+    ``notes`` what the tool left alone and why, for a rider; ``params`` the parameters it ran with)."""
 
     tool: str
     label: str
@@ -97,6 +97,7 @@ class StepReport:
     after: Totals
     info: dict
     notes: tuple[str, ...] = ()
+    params: object = None
 
 
 @dataclass
@@ -180,7 +181,8 @@ def clean_document(doc: Document, params: CleanParams = CleanParams(),
             report.steps.append(StepReport(
                 tool=proposal.tool, label=proposal.label, track=index, removed=len(proposal.removed),
                 inserted=len(proposal.inserted), changed=int(proposal.changed.sum()), before=proposal.before,
-                after=proposal.after, info=_scalars(proposal.info), notes=tuple(proposal.info.get("notes", ()))))
+                after=proposal.after, info=_scalars(proposal.info), notes=tuple(proposal.info.get("notes", ())),
+                params=step_params))
             done += 1
     # every step's proposal already carries the totals before and after it: reuse them per track
     for index, track in enumerate(out.tracks):

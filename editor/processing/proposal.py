@@ -37,6 +37,8 @@ class Proposal:
         (metres) of horizontal position and elevation, for an uncertainty band.
     before, after : totals of the track before and after.
     info : tool-specific numbers to report (chosen q, log-likelihood, kept count, ...).
+    params : the parameters the caller ran the tool with, when it says (the window does, for the
+        cleaning record of a saved copy); tools leave it ``None``.
     """
 
     tool: str
@@ -54,6 +56,7 @@ class Proposal:
     sigma_h_m: np.ndarray | None = None
     sigma_v_m: np.ndarray | None = None
     info: dict[str, Any] = field(default_factory=dict)
+    params: Any = None
 
     @property
     def inserted(self) -> np.ndarray:

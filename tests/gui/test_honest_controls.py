@@ -11,10 +11,18 @@ import json
 import pytest
 from PySide6 import QtCore
 
-from gui_support import ROOT
+from gui_support import GPX_XSD, ROOT
 
 TUNNEL = ROOT / "demo_tracks" / "demo_tunnel.gpx"
 LEFT = QtCore.Qt.MouseButton.LeftButton
+
+
+@pytest.fixture
+def gpx_schema():
+    import xmlschema
+
+    # the GPX 1.1 XML Schema published with the standard (Topografix): the outside judge of what we write
+    return xmlschema.XMLSchema(str(GPX_XSD))
 
 
 @pytest.fixture
@@ -149,3 +157,63 @@ def test_tools_in_the_recommended_order_on_the_tunnel_ride_reach_the_truth(tunne
     _, report = clean_document(read_gpx(TUNNEL))
     assert totals.distance_m == pytest.approx(report.after.distance_m, rel=1e-9)
     assert totals.ascent_m == pytest.approx(report.after.ascent_m) and totals.points == report.after.points
+
+
+def test_a_saved_cleaned_copy_records_what_was_done_and_every_place_carries_the_caution(window, dialogs, qtbot,
+                                                                                        tmp_path, gpx_schema):
+    import shutil
+
+    from lxml import etree
+
+    from editor.io.payload import TW_NS
+
+    source = tmp_path / "tunnel.gpx"
+    shutil.copy(TUNNEL, source)
+    assert window.open_path(source)
+    # the Totals header says what the numbers are
+    assert window.totals_panel.caution.isVisible()
+    assert "estimates" in window.totals_panel.caution.text()
+    assert "not for navigation" in window.totals_panel.caution.text()
+    panel = open_tab(qtbot, window, "despike")
+    click(qtbot, panel.preview_button)
+    wait_preview(qtbot, window, "despike")
+    click(qtbot, panel.apply_button)
+    window.state.set_selection([3, 4])
+    qtbot.keyClick(window.map_view, QtCore.Qt.Key.Key_Delete)  # a hand edit too
+    assert window.undo_stack.count() == 2
+    target = tmp_path / "tunnel-cleaned.gpx"
+    dialogs.save_path = str(target)
+    qtbot.keyClick(window, QtCore.Qt.Key.Key_S, QtCore.Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(target.exists, timeout=5000)
+    kind, title = [a for a in dialogs.asked if a[0] == "save"][-1]
+    assert "estimate" in title and "not for navigation" in title   # the save dialog carries the caution
+    gpx_schema.validate(str(target))
+
+    def runs(path):
+        tree = etree.parse(str(path))
+        records = tree.findall(f".//{{{TW_NS}}}cleaning")
+        assert len(records) == 1 and len(records[0].findall(f"{{{TW_NS}}}caution")) == 1
+        assert "not for navigation" in records[0].findtext(f"{{{TW_NS}}}caution")
+        return records[0].findall(f"{{{TW_NS}}}run")
+
+    (run,) = runs(target)
+    assert run.get("program") == "Trackwright" and run.get("version") and run.get("date").endswith("Z")
+    steps = run.findall(f"{{{TW_NS}}}step")
+    assert [(s.get("name"), s.get("label")) for s in steps] == [("despike", "Remove spikes"),
+                                                                ("edit", "Delete 2 points")]
+    params = {p.get("name"): p.get("value") for p in steps[0]}
+    assert params["confidence"] == "0.999" and params["check_catch_up"] == "true"
+    # open the copy, fill the gap, save again: the first run is kept and the new one follows it
+    assert window.open_path(target)
+    panel = open_tab(qtbot, window, "fill_gaps")
+    click(qtbot, panel.preview_button)
+    wait_preview(qtbot, window, "gaps")
+    click(qtbot, panel.apply_button)
+    again = tmp_path / "tunnel-cleaned-2.gpx"
+    dialogs.save_path = str(again)
+    qtbot.keyClick(window, QtCore.Qt.Key.Key_S, QtCore.Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(again.exists, timeout=5000)
+    gpx_schema.validate(str(again))
+    first, second = runs(again)
+    assert etree.tostring(first, with_tail=False) == etree.tostring(run, with_tail=False)
+    assert [s.get("name") for s in second.findall(f"{{{TW_NS}}}step")] == ["gaps"]
