@@ -49,7 +49,7 @@ def cmd_stats(args) -> int:
     print(f"  tracks {len(doc.tracks)}, segments {total.segments}, points {total.points}")
     print(f"  distance   {total.distance_m / 1000:.3f} km  (3D {total.distance_3d_m / 1000:.3f} km)")
     print(f"  ascent     {total.ascent_m:.0f} m   descent {total.descent_m:.0f} m"
-          f"   (dead band {params.climb_threshold_m:g} m; raw {total.raw_ascent_m:.0f} / {total.raw_descent_m:.0f} m)")
+          f"   (climb threshold {params.climb_threshold_m:g} m; raw {total.raw_ascent_m:.0f} / {total.raw_descent_m:.0f} m)")
     print(f"  duration   {_fmt_duration(total.duration_s)}   moving {_fmt_duration(total.moving_time_s)}"
           f"   max speed {speed}")
     return 0
@@ -90,7 +90,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--moving-speed", type=float, default=0.5, metavar="M_PER_S",
                    help="a step counts as moving above this speed (default 0.5 m/s)")
     p.add_argument("--climb-threshold", type=float, default=5.0, metavar="METRES",
-                   help="dead band for ascent/descent (default 5 m)")
+                   help="climb threshold: rises and falls smaller than this do not count in "
+                        "ascent and descent (default 5 m)")
     p.set_defaults(run=cmd_stats)
 
     p = sub.add_parser("export", help="write a GPX file as GPX 1.1, GeoJSON or CSV (by OUT's extension)")

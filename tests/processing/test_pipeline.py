@@ -54,7 +54,7 @@ def test_cleaned_hike_is_much_closer_to_the_truth():
     cleaned, report = clean_document(doc, CleanParams())
     true_distance, true_ascent = truth_totals(truth)
     raw, done = report.before, report.after
-    assert raw.ascent_m - true_ascent > 100  # the noise adds a lot of climbing, even with the dead band
+    assert raw.ascent_m - true_ascent > 100  # the noise adds a lot of climbing, even with the climb threshold
     # measured: raw ascent ~2,800 m and distance ~13.7 km against a true 150 m and 2.73 km;
     # cleaned within a few metres of both
     assert abs(done.ascent_m - true_ascent) < 0.05 * abs(raw.ascent_m - true_ascent)
