@@ -75,7 +75,8 @@ class GapParams:
         loggers jitter by a second or two, a tunnel or a pocket loses tens of seconds).
     min_gap_s : ... and at least this long (default 10 s).
     max_gap_s : longer gaps are not filled (default 120 s: two minutes of walking is 150 m,
-        of cycling a kilometre, about as far as a smooth guess stays useful).
+        of cycling a kilometre, about as far as a smooth guess stays useful). Held against the gap
+        as recorded: points the spike tool removed beside a gap do not make it longer.
     long_gap : ``"leave"`` (default) or ``"split"`` the segment at gaps longer than ``max_gap_s``.
     activity : preset name or ``"auto"``; its process noise is the fallback when the context
         is too short to fit one.
@@ -153,7 +154,11 @@ def fill_gaps(track: Track, params: GapParams = GapParams(), *, rows=None, track
     notes: list[str] = []
     along = None
     extra = track.points.extra
-    for a, b in timed_segments(pt, min_points=2):
+    timed = timed_segments(pt, min_points=2)
+    for number, (a, b) in enumerate(pt.bounds):
+        if b - a >= 2 and (a, b) not in timed and allowed[a:b].any():
+            notes.append(f"segment {number + 1}: its times are missing or out of order, so gaps cannot be found")
+    for a, b in timed:
         t = pt.t_s[a:b]
         found, median = find_gaps(t, params.gap_factor, params.min_gap_s)
         for g in found.tolist():

@@ -92,3 +92,12 @@ def test_distance_along_agrees_with_the_totals():
     along = distance_along(track)
     assert along[0] == 0 and np.all(np.diff(along) >= 0)
     assert along[-1] == pytest.approx(track_totals(track).distance_m, rel=1e-12)  # summation order only
+
+
+def test_a_segment_without_times_is_reported_by_the_gap_tool():
+    doc, _ = tunnel()
+    track = doc.tracks[0]
+    track.points.time[:] = np.datetime64("NaT")
+    proposal = fill_gaps(track)
+    assert proposal.is_noop()
+    assert proposal.info["notes"] == ["segment 1: its times are missing or out of order, so gaps cannot be found"]
