@@ -100,8 +100,10 @@ def test_one_word_for_the_climb_threshold_and_one_suffix_for_a_cleaned_copy(caps
     readme = (Path(__file__).resolve().parents[1] / "README.md").read_text()
     assert "dead band" not in readme and "climb threshold" in readme
     # the window's default copy name and clean -d's output name share one suffix
-    from editor.io.provenance import cleaned_copy_name as window_name  # editor.app.files uses this one
     from editor.cli_clean import plan_outputs
+    from editor.io.provenance import (
+        cleaned_copy_name as window_name,  # editor.app.files uses this one
+    )
 
     planned = plan_outputs([demo], None, Path("/nonexistent-out"), overwrite=False)
     assert planned[0].name == window_name(demo).name == "demo_tunnel-cleaned.gpx"

@@ -1,8 +1,8 @@
 """``trackwright clean``: outputs, refusals, kept content, options, summary and caution."""
 import io
-from dataclasses import replace
 import subprocess
 import sys
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np

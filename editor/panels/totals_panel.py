@@ -9,7 +9,8 @@ import math
 
 from PySide6 import QtCore, QtWidgets
 
-from ..io.provenance import CAUTION  # shown above the numbers, as in a saved copy's record
+# the caution shown above the numbers is the one a saved copy's record carries
+from ..io.provenance import CAUTION
 from ..processing.stats import Totals
 from ..views.units import METRIC, UnitSystem, format_duration
 

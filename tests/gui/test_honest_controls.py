@@ -9,9 +9,8 @@ from __future__ import annotations
 import json
 
 import pytest
-from PySide6 import QtCore
-
 from gui_support import GPX_XSD, ROOT
+from PySide6 import QtCore
 
 TUNNEL = ROOT / "demo_tracks" / "demo_tunnel.gpx"
 LEFT = QtCore.Qt.MouseButton.LeftButton

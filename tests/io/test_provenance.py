@@ -8,13 +8,20 @@ from pathlib import Path
 
 import xmlschema
 from lxml import etree
+from shared_files import GPX_XSD
 
 from editor.io.gpx import read_gpx, write_gpx
 from editor.io.payload import TW_NS, DocumentExtra
-from editor.io.provenance import (CAUTION, CLEANED_SUFFIX, StepRecord, cleaned_copy_name, cleaning_runs,
-                                  params_record, with_cleaning_record)
+from editor.io.provenance import (
+    CAUTION,
+    CLEANED_SUFFIX,
+    StepRecord,
+    cleaned_copy_name,
+    cleaning_runs,
+    params_record,
+    with_cleaning_record,
+)
 from editor.processing.smoothing import SmoothParams
-from shared_files import GPX_XSD
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_tracks"
 WHEN = datetime(2026, 5, 1, 8, 30, tzinfo=timezone.utc)
