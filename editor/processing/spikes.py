@@ -70,7 +70,7 @@ from .cleaning_base import (PlanarTrack, activity_for, chi2_quantile, keep_propo
                             selection_mask, timed_segments, true_runs, window_speed)
 from .kalman import innovations, rts_smooth
 from .proposal import Proposal
-from .stats import StatsParams, Totals
+from .stats import StatsParams, Totals, distance_along
 
 #: Rows of context on each side of a questioned fix in the robust stage.
 CONTEXT_ROWS = 25
@@ -345,10 +345,17 @@ def despike(track: Track, params: SpikeParams = SpikeParams(), *, rows=None, tra
         speed &= allowed
     remove = spike | speed | catch_up
     lengthened = _lengthened_gaps(track, pt, remove, params.min_gap_s)
+    unchecked = rows_t[np.asarray(catch_info.pop("catch_up_unresolved_at", []), dtype=np.int64)]
+    notes = []
+    if len(unchecked):
+        along = distance_along(track)
+        window = 2 * params.catch_up_window_s
+        notes = [f"gap at {along[row] / 1000:.1f} km: the points after it do not settle within {window:.0f} s, "
+                 "so a catch-up there was not looked for" for row in unchecked.tolist()]
     info = {"activity": activity.name, "sigma_h_m": sigma_h, "sigma_v_m": sigma_v,
             "gate_h": gate_h, "gate_v": gate_v, "confidence": params.confidence,
             "spikes": int(spike.sum()), "speed": int(speed.sum()), "catch_up": int(catch_up.sum()),
-            "unresolved_zones": unresolved, "gaps_lengthened": len(lengthened), **catch_info}
+            "unresolved_zones": unresolved, "gaps_lengthened": len(lengthened), "notes": notes, **catch_info}
     proposal = keep_proposal("despike", "Remove spikes", track_index, track, ~remove, stats_params,
                              before=before, reasons={"spike": np.flatnonzero(spike), "speed": np.flatnonzero(speed),
                                                      "catch-up": np.flatnonzero(catch_up)}, info=info)
