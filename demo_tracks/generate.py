@@ -315,6 +315,25 @@ def gpx_text(sc: Scenario, truth: dict, rec: dict, start: datetime) -> str:
     return "\n".join(out + ["  </trk>", "</gpx>", ""])
 
 
+#: How close a cleaned recording's totals must come to the truth (see ``cleaned_tolerance``).
+DISTANCE_TOLERANCE = 0.01
+CLIMB_TOLERANCE, CLIMB_TOLERANCE_FLOOR_M = 0.10, 10.0
+
+
+def cleaned_tolerance(distance_m: float, ascent_m: float, descent_m: float) -> dict:
+    """Largest difference between a cleaned recording's totals and the truth's that counts as a good clean.
+
+    Distance 1 % (common practice: what riders expect of a GNSS distance); ascent and descent 10 %
+    or 10 m, whichever is larger (common practice: a 5 m climb threshold drops small undulations of
+    the truth, and elevations are stored to 1 m).
+    """
+    return {"distance_m": round(DISTANCE_TOLERANCE * distance_m, 1),
+            "ascent_m": round(max(CLIMB_TOLERANCE * ascent_m, CLIMB_TOLERANCE_FLOOR_M), 1),
+            "descent_m": round(max(CLIMB_TOLERANCE * descent_m, CLIMB_TOLERANCE_FLOOR_M), 1),
+            "applies_to": "totals (5 m climb threshold) of the recording after the recommended clean: "
+                          "spikes, gaps, stops, smoothing"}
+
+
 def truth_json(sc: Scenario, truth: dict, mot: dict, rec: dict, start: datetime) -> str:
     """The noise-free totals and the place of every artefact, for tests and for the README."""
     lat, lon = to_latlon(sc, truth["east"], truth["north"])
@@ -356,6 +375,8 @@ def truth_json(sc: Scenario, truth: dict, mot: dict, rec: dict, start: datetime)
         "duplicate_time_indices": rec["dup"].tolist(),
         "subsecond_time_indices": np.flatnonzero(rec["t_ms"] % 1000).tolist(),
         "error_model": vars(sc.errors),
+        "cleaned_tolerance": cleaned_tolerance(float(GEOD.line_length(lon, lat)), float(rise[rise > 0].sum()),
+                                               float(-rise[rise < 0].sum())),
         "notes": "Indices count the track's points across segments from 0. Distances on WGS84 (pyproj "
                  "Geod). 'through_fixes' totals follow the true path sampled at the fix times.",
     }

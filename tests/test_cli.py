@@ -86,3 +86,24 @@ def test_python_dash_m_editor_is_the_same_command(sample):
                             capture_output=True, text=True, timeout=60)
     assert result.returncode == 0
     assert json.loads(result.stdout)["points"] == 3
+
+
+def test_one_word_for_the_climb_threshold_and_one_suffix_for_a_cleaned_copy(capsys):
+    # the option is --climb-threshold: the output, its help and the README say "climb threshold" too
+    demo = Path(__file__).resolve().parents[1] / "demo_tracks" / "demo_tunnel.gpx"
+    assert main(["stats", str(demo)]) == 0
+    out = capsys.readouterr().out
+    assert "climb threshold 5 m" in out and "dead band" not in out
+    with pytest.raises(SystemExit):
+        main(["stats", "--help"])
+    assert "climb threshold" in capsys.readouterr().out
+    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text()
+    assert "dead band" not in readme and "climb threshold" in readme
+    # the window's default copy name and clean -d's output name share one suffix
+    from editor.cli.clean import plan_outputs
+    from editor.io.provenance import (
+        cleaned_copy_name as window_name,  # editor.app.files uses this one
+    )
+
+    planned = plan_outputs([demo], None, Path("/nonexistent-out"), overwrite=False)
+    assert planned[0].name == window_name(demo).name == "demo_tunnel-cleaned.gpx"

@@ -2,6 +2,7 @@
 import io
 import subprocess
 import sys
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -63,7 +64,10 @@ def test_clean_one_file_writes_a_valid_cleaned_copy(walk, tmp_path, capsys):
     # everything the steps do not touch is kept
     assert cleaned.waypoints.equals(original.waypoints)
     assert cleaned.routes[0].equals(original.routes[0])
-    assert cleaned.extra == original.extra and cleaned.tracks[0].extra == original.tracks[0].extra
+    assert cleaned.tracks[0].extra == original.tracks[0].extra
+    # the file-level content is kept; the metadata only gains the cleaning record (editor.io.provenance)
+    assert replace(cleaned.extra, metadata=None) == replace(original.extra, metadata=None)
+    assert cleaned.extra.metadata.startswith("<metadata><name>Lake loop</name><desc>invented</desc><extensions>")
     assert cleaned.tracks[0].name == "morning"
     kept = [e for e in cleaned.tracks[0].points.extra if e is not None and "bpm" in str(e)]
     assert len(kept) >= 390
@@ -191,3 +195,48 @@ def test_clean_does_not_import_what_default_steps_do_not_use(walk, tmp_path):
     assert run.returncode == 0, run.stderr
     assert run.stdout.strip().splitlines()[-1] == "0"
     assert out.exists()
+
+
+def test_smooth_zero_changes_no_position_or_elevation(walk, tmp_path, capsys):
+    # the panel's scale (editor.processing.smoothing.STRENGTH_LOG10_Q): 0 keeps the recording exactly
+    out = tmp_path / "zero.gpx"
+    assert main(["clean", str(walk), "-o", str(out), "--smooth", "0", "--no-despike", "--no-fill-gaps",
+                 "--no-stops"]) == 0
+    before, after = read_gpx(walk).tracks[0].points, read_gpx(out).tracks[0].points
+    assert np.array_equal(before.lat, after.lat) and np.array_equal(before.lon, after.lon)
+    assert np.array_equal(before.ele, after.ele)
+    # with the other steps on, the smoothing step itself moves nothing
+    import argparse
+
+    from editor.cli.clean import add_parser, clean_params
+    from editor.processing.pipeline import clean_document
+
+    parser = argparse.ArgumentParser()
+    add_parser(parser.add_subparsers())
+    args = parser.parse_args(["clean", str(walk), "-o", str(out), "--smooth", "0"])
+    _, report = clean_document(read_gpx(walk), clean_params(args))
+    smoothing = [s for s in report.steps if s.tool == "smooth"]
+    assert smoothing and smoothing[0].changed == 0 and smoothing[0].before == smoothing[0].after
+
+
+def test_clean_of_the_tunnel_ride_reaches_the_truth_and_reports_skipped_gaps(tmp_path, capsys):
+    import json
+
+    from editor.processing.stats import track_totals
+
+    # outside reference: the demo generator's noise-free truth and its cleaned_tolerance
+    demo = ROOT / "demo_tracks"
+    truth = json.loads((demo / "demo_tunnel.truth.json").read_text())
+    out = tmp_path / "tunnel-out.gpx"
+    assert main(["clean", str(demo / "demo_tunnel.gpx"), "-o", str(out)]) == 0
+    totals = track_totals(read_gpx(out).tracks[0])
+    tol = truth["cleaned_tolerance"]
+    assert abs(totals.distance_m - truth["true_distance_m"]) <= tol["distance_m"]
+    assert abs(totals.ascent_m - truth["true_ascent_m"]) <= tol["ascent_m"]
+    assert abs(totals.descent_m - truth["true_descent_m"]) <= tol["descent_m"]
+    assert "gap at" not in capsys.readouterr().out
+    # a limit under the tunnel's 113 s: the gap is left, and the summary says where and why
+    short = tmp_path / "tunnel-short.gpx"
+    assert main(["clean", str(demo / "demo_tunnel.gpx"), "-o", str(short), "--max-gap", "60"]) == 0
+    notes = [line for line in capsys.readouterr().out.splitlines() if "gap at" in line]
+    assert len(notes) == 1 and "Fill gaps" in notes[0] and "(113 s without signal), over the 60 s limit" in notes[0]

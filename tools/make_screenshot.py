@@ -17,8 +17,8 @@ sys.path.insert(0, str(ROOT))
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
 #: Strengths shown in the screenshot's preview (0 keeps the recording, 100 smooths the most).
-POSITION_STRENGTH = 55
-ELEVATION_STRENGTH = 50
+POSITION_STRENGTH = 70  # q = 10^-2.4 m^2/s^3, as 55 was before 0 meant "unchanged"
+ELEVATION_STRENGTH = 71  # q = 10^-4 m^2/s^3, as 50 was
 #: The map is centred on the point this far along the track (the switchbacks below the saddle),
 #: the profile's crosshair rests on it.
 FOCUS_FRACTION = 0.42

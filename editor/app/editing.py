@@ -12,6 +12,7 @@ from PySide6 import QtWidgets
 
 from ..commands import EditCommand
 from ..model import hand_edits
+from ..io.provenance import StepRecord
 from ..model.document import Track
 
 from . import dialogs
@@ -29,16 +30,27 @@ class EditController:
         self.session = session
 
     # --- hand edits -------------------------------------------------------------------------------
-    def push_edit(self, edit: Any, label: str) -> bool:
-        """Apply ``edit`` as one undo step named ``label`` (refused while the document is read-only)."""
+    def push_edit(self, edit: Any, label: str, record: StepRecord | None = None) -> bool:
+        """Apply ``edit`` as one undo step named ``label`` (refused while the document is read-only).
+
+        ``record``: what the step is in a saved copy's cleaning record (a hand edit by default).
+        """
         if self.session.read_only:
             self.window.statusBar().showMessage(
                 "These points were salvaged from a damaged file and are read-only: "
                 "save a cleaned copy first (Ctrl+S), then edit the copy.", 8000)
             self.window.display.redraw_soon()  # a drag already drew the point moved: show the model again
             return False
-        self.window.undo_stack.push(EditCommand(self.session.doc, edit, label))
+        command = EditCommand(self.session.doc, edit, label)
+        command.record = record or StepRecord("edit", label, self.session.state.track)
+        self.window.undo_stack.push(command)
         return True
+
+    def cleaning_steps(self) -> list[StepRecord]:
+        """The steps of the undo stack that are applied now, in order, for a saved copy's record."""
+        stack, track = self.window.undo_stack, self.session.state.track
+        return [getattr(stack.command(i), "record", None) or StepRecord("edit", stack.text(i), track)
+                for i in range(stack.index())]
 
     def _hand_edit(self, build: Callable[[Track], Any], label: str) -> bool:
         track = self.session.track()

@@ -11,6 +11,7 @@ from ..io import read_document
 from ..io.errors import TrackFileError
 from ..io.export import write_document
 from ..io.gpx import write_gpx
+from ..io.provenance import with_cleaning_record
 from .. import CAUTION, __version__
 from . import dialogs
 from .file_jobs import Cancelled, FileJobBusy, FileJobs
@@ -20,6 +21,8 @@ if TYPE_CHECKING:
     from .window import MainWindow
 
 GPX_FILTER = "GPX track files (*.gpx *.GPX);;All files (*)"
+#: The save dialog's title carries the caution too (the file itself records it, editor.io.provenance).
+SAVE_TITLE = "Save cleaned copy: an estimate, not for navigation"
 
 
 class FileController:
@@ -152,7 +155,7 @@ class FileController:
         """Ask where (default: beside the original with our suffix) and write GPX 1.1 atomically."""
         default = self.session.default_copy_path(Path.home())
         path, _ = QtWidgets.QFileDialog.getSaveFileName(
-            self.window, "Save cleaned copy", str(default), GPX_FILTER,
+            self.window, SAVE_TITLE, str(default), GPX_FILTER,
             options=QtWidgets.QFileDialog.Option.DontConfirmOverwrite)
         if not path:
             return False
@@ -167,6 +170,8 @@ class FileController:
             return False
         window = self.window
         snapshot, history = self.session.doc.snapshot(), window.undo_stack.index()
+        # the copy records what was done (program, date, each step with its settings, the caution)
+        snapshot.extra = with_cleaning_record(snapshot.extra, window.editing.cleaning_steps(), __version__)
         try:
             done = self._file_job(f"Saving {target.name}",
                                   lambda progress: write_gpx(snapshot, target, progress=progress) or True,

@@ -14,7 +14,8 @@ import numpy as np
 from PySide6 import QtCore
 
 from ..geo.projection import LocalProjection
-from ..io.payload import GAP_FILL_MARKER
+from ..model.payload import GAP_FILL_MARKER
+from ..io.provenance import StepRecord, params_record
 from ..processing.cleaning_base import planar
 from ..processing.descriptor import ToolDescriptor
 from ..processing import smoothing
@@ -91,6 +92,7 @@ class PreviewController(QtCore.QObject):
                 kwargs["plane"] = cache["plane"]
             proposal = function(snapshot, strengths(snapshot, params), rows=rows, track_index=track_index,
                                 **kwargs)
+            proposal.params = params  # as the user set them ("auto" stays auto) for the cleaning record
             # Project the proposal for the map here, off the UI thread (pyproj objects stay
             # in the thread that made them).
             xy = LocalProjection(lat0, lon0).to_xy(proposal.points.lat, proposal.points.lon)
@@ -156,7 +158,9 @@ class PreviewController(QtCore.QObject):
         if proposal.is_noop():
             status.showMessage("The proposal changes nothing.", 5000)
             return False
-        if not self.window.editing.push_edit(proposal.edit(), proposal.label):
+        record = StepRecord(proposal.tool, proposal.label, proposal.track,
+                            params_record(proposal.params, proposal.info))
+        if not self.window.editing.push_edit(proposal.edit(), proposal.label, record):
             return False
         # the views redraw in the next event-loop turn and take this instead of projecting again
         self.applied_hint = AppliedHint(self.session.revision, self.session.state.track,

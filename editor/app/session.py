@@ -11,17 +11,10 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from ..io.provenance import CLEANED_SUFFIX, cleaned_copy_name
 from ..io.save import same_file
 from ..model.document import Document, Track
 from ..model.state import EditorState
-
-#: Added to the original's name for the default cleaned copy: ``ride.gpx`` -> ``ride.tidy.gpx``.
-CLEANED_SUFFIX = ".tidy"
-
-
-def cleaned_copy_name(original: Path) -> Path:
-    """Default name of a cleaned copy, beside the original."""
-    return original.with_name(original.stem + CLEANED_SUFFIX + ".gpx")
 
 
 @dataclass

@@ -1,6 +1,8 @@
 """The tabbed tool panels, wired to the window's preview machinery."""
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 from PySide6 import QtCore, QtWidgets
 
@@ -61,7 +63,8 @@ class ToolDock(QtWidgets.QTabWidget):
         if snapshot is None:
             return
         rows = window.state.selection.copy() if panel.selection_scope() else None
-        params = panel.params()
+        # "Estimate" always estimates both strengths, whatever the boxes hold
+        params = replace(panel.params(), horizontal_strength=None, vertical_strength=None)
 
         def work(progress, cancelled):
             return estimate_strength(snapshot, rows, params=params, progress=progress, cancelled=cancelled)
@@ -77,9 +80,10 @@ class ToolDock(QtWidgets.QTabWidget):
     def document_changed(self) -> None:
         # The edit already dropped the old preview; a preview computed on the edited track
         # may have arrived before this redraw and stays applicable.
-        has_preview = self.window_.state.preview is not None
+        preview = self.window_.state.preview
         for panel in self.panels:
-            panel.set_has_preview(has_preview and panel is self.current_panel())
+            panel.set_has_preview(preview is not None and panel is self.current_panel(),
+                                  applicable=preview is not None and not preview.is_noop())
 
     def set_status(self, text: str) -> None:
         panel = self.current_panel()
@@ -90,14 +94,30 @@ class ToolDock(QtWidgets.QTabWidget):
         panel = self.current_panel()
         if panel is None:
             return
-        panel.set_has_preview(proposal is not None)
         if proposal is None:
+            panel.set_has_preview(False)
             panel.set_status("")
             return
-        changed = int(np.count_nonzero(proposal.changed))
-        parts = [f"{changed:,} point(s) moved"]
-        if len(proposal.removed):
-            parts.append(f"{len(proposal.removed):,} removed")
-        if len(proposal.inserted):
-            parts.append(f"{len(proposal.inserted):,} added")
-        panel.set_status("Proposal: " + ", ".join(parts) + ". Apply keeps it; Discard drops it.")
+        panel.show_proposal(proposal)
+        noop = proposal.is_noop()
+        panel.set_has_preview(True, applicable=not noop)
+        panel.set_status(proposal_status(proposal, noop))
+
+
+def _count(n: int, word: str) -> str:
+    return f"{n:,} {word}{'' if n == 1 else 's'}"
+
+
+def proposal_status(proposal, noop: bool) -> str:
+    """What a preview does, for the panel: counts, or that it changes nothing; and what was left alone."""
+    notes = [str(n) for n in proposal.info.get("notes", ())]
+    left = (" Left alone: " + "; ".join(notes) + ".") if notes else ""
+    if noop:
+        return "Nothing to apply: with these settings the tool changes nothing." + left
+    changed = int(np.count_nonzero(proposal.changed))
+    parts = [_count(changed, "point") + " moved"]
+    if len(proposal.removed):
+        parts.append(f"{len(proposal.removed):,} removed")
+    if len(proposal.inserted):
+        parts.append(f"{len(proposal.inserted):,} added")
+    return "Proposal: " + ", ".join(parts) + ". Apply keeps it; Discard drops it." + left

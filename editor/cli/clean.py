@@ -11,7 +11,8 @@ as recorded, 120 by default), collapse stops,
 smooth (strength chosen by maximum likelihood unless given), simplify (off
 unless ``--simplify METRES``; elevation is kept to the same number of metres
 unless ``--simplify-vertical`` says otherwise, so climb totals survive). Everything the steps do not touch is kept:
-waypoints, routes, metadata and extensions.
+waypoints, routes, metadata and extensions. A GPX output records what was done in its
+metadata (:mod:`editor.io.provenance`).
 
 An input is never overwritten, and an existing output only with ``--overwrite``
 (the replaced file is then kept as ``OUT.bak``).
@@ -27,6 +28,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any, Callable, TextIO
 
 from ..io.errors import TrackFileError
+from ..io.provenance import CLEANED_SUFFIX
 from ..io.save import check_target, same_file
 
 if TYPE_CHECKING:
@@ -34,8 +36,8 @@ if TYPE_CHECKING:
     from ..processing.pipeline import CleanParams
 from .. import CAUTION
 
-#: Suffix added to an input's name for its cleaned copy in ``-d`` mode.
-OUTPUT_SUFFIX = "-cleaned"
+#: Suffix added to an input's name for its cleaned copy in ``-d`` mode: the window's too.
+OUTPUT_SUFFIX = CLEANED_SUFFIX
 #: Output formats, by extension (GPX 1.1, GeoJSON, CSV; see editor.io.export).
 OUTPUT_TYPES = (".gpx", ".geojson", ".json", ".csv")
 BAR_WIDTH = 24
@@ -177,10 +179,19 @@ class ProgressBar:
             self.stream.flush()
 
 
+def cleaning_record(extra: Any, report: Any) -> Any:
+    """The document's file-level payload with this clean's steps added to its cleaning record."""
+    from .. import __version__
+    from ..io.provenance import StepRecord, params_record, with_cleaning_record
+
+    steps = [StepRecord(s.tool, s.label, s.track, params_record(s.params, s.info)) for s in report.steps]
+    return with_cleaning_record(extra, steps, __version__)
+
+
 def cmd_clean(args: argparse.Namespace) -> int:
     from ..io import read_document
     from ..io.export import write_document
-    from ..io.payload import GAP_FILL_MARKER
+    from ..model.payload import GAP_FILL_MARKER
     from ..processing.pipeline import clean_document, summary_line
 
     inputs = list(args.inputs)
@@ -202,6 +213,7 @@ def cmd_clean(args: argparse.Namespace) -> int:
                 bar(0.05 + 0.85 * fraction, what)
 
             cleaned, report = clean_document(doc, params, progress=step, inserted_marker=GAP_FILL_MARKER)
+            cleaned.extra = cleaning_record(cleaned.extra, report)
             bar(0.92, "writing")
             write_document(cleaned, dst, backup=args.overwrite)
             bar(1.0, "done")
@@ -217,6 +229,9 @@ def cmd_clean(args: argparse.Namespace) -> int:
             continue
         bar.close()
         print(f"{src} -> {dst}: {summary_line(report)}")
+        for done in report.steps:
+            for note in done.notes:
+                print(f"  {done.label}, track {done.track + 1}: {note}")
     if failures < len(inputs):
         print(f"Note: {CAUTION}")
     return 2 if failures else 0

@@ -25,7 +25,8 @@ def add_parser(subparsers: Any) -> argparse.ArgumentParser:
     p.add_argument("--moving-speed", type=float, default=defaults.moving_speed_mps, metavar="M_PER_S",
                    help=f"a step counts as moving above this speed (default {defaults.moving_speed_mps:g} m/s)")
     p.add_argument("--climb-threshold", type=float, default=defaults.climb_threshold_m, metavar="METRES",
-                   help=f"dead band for ascent/descent (default {defaults.climb_threshold_m:g} m)")
+                   help="climb threshold: rises and falls smaller than this do not count in "
+                        f"ascent and descent (default {defaults.climb_threshold_m:g} m)")
     p.set_defaults(run=cmd_stats)
     return p
 
@@ -48,7 +49,8 @@ def cmd_stats(args: argparse.Namespace) -> int:
     print(f"  tracks {len(doc.tracks)}, segments {total.segments}, points {total.points}")
     print(f"  distance   {total.distance_m / 1000:.3f} km  (3D {total.distance_3d_m / 1000:.3f} km)")
     print(f"  ascent     {total.ascent_m:.0f} m   descent {total.descent_m:.0f} m"
-          f"   (dead band {params.climb_threshold_m:g} m; raw {total.raw_ascent_m:.0f} / {total.raw_descent_m:.0f} m)")
+          f"   (climb threshold {params.climb_threshold_m:g} m;"
+          f" raw {total.raw_ascent_m:.0f} / {total.raw_descent_m:.0f} m)")
     print(f"  duration   {format_duration(total.duration_s)}   moving {format_duration(total.moving_time_s)}"
           f"   max speed {speed}")
     return 0

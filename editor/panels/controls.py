@@ -83,6 +83,10 @@ class ParamControl(QtWidgets.QWidget):
         layout.setContentsMargins(0, 0, 0, 0)
         self.auto_box: QtWidgets.QCheckBox | None = None
         self.slider: QtWidgets.QSlider | None = None
+        self.auto_text = spec.auto_text
+        self._auto_value: float | None = None   # what the tool chose for "auto", once known
+        self._kept_value: float | None = None   # the user's own value from before "auto" was ticked
+        self._showing_auto = False
         self.kind = self._kind(default, type_text, spec)
         if self.kind == "choice":
             self.editor = QtWidgets.QComboBox()
@@ -152,18 +156,26 @@ class ParamControl(QtWidgets.QWidget):
         self.editor.setValue(value)  # emits through _spin_changed
 
     def _auto_toggled(self, auto: bool, emit: bool = True) -> None:
-        # While "auto" is ticked the box shows "auto" rather than a number the tool will not use.
+        # While "auto" is ticked the box and slider show the value the tool found (show_auto_value),
+        # or "auto" until it has run; unticking keeps the value shown, so nothing jumps.
         if isinstance(self.editor, (QtWidgets.QSpinBox, QtWidgets.QDoubleSpinBox)):
             blockers = [QtCore.QSignalBlocker(w) for w in (self.editor, self.slider) if w]
             if auto:
-                self._kept_value = self.editor.value()
-                self.editor.setSpecialValueText("–")
-                self.editor.setValue(self.editor.minimum())
+                if not self._showing_auto:
+                    self._kept_value = self.editor.value()
+                self._showing_auto = True
+                if self._auto_value is not None:
+                    self._show_number(self._auto_value)
+                else:
+                    self.editor.setSpecialValueText(self.auto_text)
+                    self.editor.setValue(self.editor.minimum())
             else:
                 self.editor.setSpecialValueText("")
-                kept = getattr(self, "_kept_value", None)
-                if kept is not None and self.editor.value() == self.editor.minimum():
-                    self.editor.setValue(kept)
+                if self._showing_auto:
+                    kept = self._auto_value if self._auto_value is not None else self._kept_value
+                    if kept is not None:
+                        self._show_number(kept)
+                self._showing_auto = False
                 if self.slider is not None:
                     self.slider.setValue(int(round(self.editor.value())))
             del blockers
@@ -172,6 +184,24 @@ class ParamControl(QtWidgets.QWidget):
             self.slider.setEnabled(not auto)
         if emit:
             self.changed.emit()
+
+    def _show_number(self, value: float) -> None:
+        self.editor.setSpecialValueText("")
+        self.editor.setValue(int(round(value)) if self.kind == "int" else float(value))
+        if self.slider is not None:
+            self.slider.setValue(int(round(float(value))))
+
+    def show_auto_value(self, value: float | None) -> None:
+        """Show the value the tool chose for "auto" (e.g. the estimated strength); no ``changed``."""
+        if value is None or not isinstance(self.editor, (QtWidgets.QSpinBox, QtWidgets.QDoubleSpinBox)):
+            return
+        if self.kind == "int" or self.editor.decimals() == 0:
+            value = float(round(value))
+        self._auto_value = value
+        if self.auto_box is not None and self.auto_box.isChecked():
+            blockers = [QtCore.QSignalBlocker(w) for w in (self, self.editor, self.slider) if w]
+            self._show_number(value)
+            del blockers
 
     def value(self) -> Any:
         if self.auto_box is not None and self.auto_box.isChecked():

@@ -96,9 +96,13 @@ class ToolPanel(QtWidgets.QWidget):
         """Whether the tool should act on the selection only."""
         return self.selection_only.isChecked() and self.selection_only.isEnabled()
 
-    def set_has_preview(self, has_preview: bool) -> None:
-        self.apply_button.setEnabled(has_preview)
+    def set_has_preview(self, has_preview: bool, applicable: bool = True) -> None:
+        """Enable Apply for a preview that changes something (``applicable``) and Discard for any preview."""
+        self.apply_button.setEnabled(has_preview and applicable)
         self.discard_button.setEnabled(has_preview)
+
+    def show_proposal(self, proposal) -> None:
+        """Reflect a new preview in the controls (e.g. what "auto" chose); nothing by default."""
 
     def set_status(self, text: str) -> None:
         self.status.setText(text)

@@ -9,6 +9,8 @@ import math
 
 from PySide6 import QtCore, QtWidgets
 
+# the caution shown above the numbers is the one a saved copy's record carries
+from ..io.provenance import CAUTION
 from ..processing.stats import Totals
 from ..units import METRIC, UnitSystem, format_duration
 
@@ -60,15 +62,20 @@ class TotalsPanel(QtWidgets.QWidget):
         grid.setContentsMargins(8, 6, 8, 6)
         grid.setHorizontalSpacing(12)
         grid.setVerticalSpacing(3)
+        # the header says what the numbers are: measured from a recording, and after a clean, estimates
+        self.caution = QtWidgets.QLabel(CAUTION)
+        self.caution.setObjectName("caution")
+        self.caution.setWordWrap(True)
+        grid.addWidget(self.caution, 0, 0, 1, 4)
         self.header_now = QtWidgets.QLabel("Track")
         self.header_after = QtWidgets.QLabel("→ Proposal")
         self.header_change = QtWidgets.QLabel("Change")
         for col, label in enumerate((self.header_now, self.header_after, self.header_change), start=1):
             label.setObjectName("totalsHeader")
             label.setAlignment(QtCore.Qt.AlignmentFlag.AlignRight)
-            grid.addWidget(label, 0, col)
+            grid.addWidget(label, 1, col)
         self.cells: dict[str, tuple[QtWidgets.QLabel, ...]] = {}
-        for row, (name, _) in enumerate(ROWS, start=1):
+        for row, (name, _) in enumerate(ROWS, start=2):
             name_label = QtWidgets.QLabel(name)
             now, after, change = (QtWidgets.QLabel("–"), QtWidgets.QLabel(""), QtWidgets.QLabel(""))
             after.setObjectName("totalsAfter")
@@ -79,7 +86,7 @@ class TotalsPanel(QtWidgets.QWidget):
             grid.addWidget(name_label, row, 0)
             self.cells[name] = (now, after, change)
         grid.setColumnStretch(0, 1)
-        grid.setRowStretch(len(ROWS) + 1, 1)
+        grid.setRowStretch(len(ROWS) + 2, 1)
         self._show_after(False)
 
     def _show_after(self, visible: bool) -> None:

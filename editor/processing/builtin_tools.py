@@ -7,18 +7,18 @@ registered from elsewhere with :func:`editor.processing.tools.register`).
 
 from __future__ import annotations
 
-from dataclasses import replace
-from typing import Any, Mapping
+from typing import Any
 
 from .descriptor import OFF, CliOption, ControlSpec, ToolDescriptor
 from .gaps import GapParams, fill_gaps
 from .simplify import SimplifyParams, simplify
-from .smoothing import SmoothParams, smooth
+from .smoothing import STRENGTH_MAX, STRENGTH_MIN, SmoothParams, smooth
 from .spikes import SpikeParams, despike
 from .stops import StopParams, collapse_stops
 
-#: The strength sliders, 0..100.
-STRENGTH: dict[str, Any] = dict(minimum=0, maximum=100, step=1, decimals=0, suffix="", slider=True, auto_text="auto")
+#: The strength sliders; the scale is defined once, in editor.processing.smoothing (0 keeps the recording).
+STRENGTH: dict[str, Any] = dict(minimum=STRENGTH_MIN, maximum=STRENGTH_MAX, step=1, decimals=0, suffix="",
+                                slider=True, auto_text="auto")
 #: The measurement scatter fields of the tools that estimate it from the track unless told.
 SCATTER = {
     "horizontal_sigma_m": ControlSpec(label="Position scatter σ", maximum=100, step=0.5, decimals=1,
@@ -42,7 +42,9 @@ def positive(text: str) -> float:
 
 
 def _smooth_option(text: str) -> Any:
-    """``auto`` (strengths by maximum likelihood), ``off``, or one strength 0..100 for both axes."""
+    """``auto`` (strengths by maximum likelihood), ``off``, or one strength for both axes on the smoothing
+    panel's scale (:data:`editor.processing.smoothing.STRENGTH_LOG10_Q`: 0 keeps the recording exactly,
+    100 is the smoothest model the automatic estimate may pick)."""
     value = text.strip().lower()
     if value == "auto":
         return {}
@@ -51,9 +53,9 @@ def _smooth_option(text: str) -> Any:
     try:
         strength = float(value)
     except ValueError:
-        raise ValueError(f"expected auto, off or a strength 0..100, got {text!r}") from None
-    if not 0.0 <= strength <= 100.0:
-        raise ValueError(f"strength must be between 0 and 100, got {text!r}")
+        raise ValueError(f"expected auto, off or a strength {STRENGTH_MIN:g}..{STRENGTH_MAX:g}, got {text!r}") from None
+    if not STRENGTH_MIN <= strength <= STRENGTH_MAX:
+        raise ValueError(f"strength must be between {STRENGTH_MIN:g} and {STRENGTH_MAX:g}, got {text!r}")
     return {"horizontal_strength": strength, "vertical_strength": strength}
 
 
@@ -66,12 +68,6 @@ def _simplify_option(text: str) -> dict:
 
 def _simplify_vertical_option(text: str) -> dict:
     return {"vertical_tolerance_m": None if text.strip().lower() == "off" else positive(text)}
-
-
-def _widen_by_catch_up(params: GapParams, earlier: Mapping[str, Any]) -> GapParams:
-    """The longest gap filled is measured on the gap as recorded: add the catch-up the spike step removed."""
-    extra = float(earlier.get("catch_up_extra_s", 0.0) or 0.0)
-    return replace(params, max_gap_s=params.max_gap_s + extra) if extra > 0 else params
 
 
 SMOOTH = ToolDescriptor(
@@ -101,7 +97,8 @@ SMOOTH = ToolDescriptor(
     cli_options=(
         CliOption(
             "--smooth",
-            "smoothing: auto (maximum likelihood, default), off, or a strength 0..100",
+            "smoothing: auto (maximum likelihood, default), off, or a strength as in the editor's "
+            "smoothing panel: 0 keeps the recording exactly, 100 is the smoothest",
             parse=_smooth_option,
             metavar="auto|off|STRENGTH",
         ),
@@ -164,7 +161,6 @@ FILL_GAPS = ToolDescriptor(
     },
     batch_order=20,
     accepts=PLANE_AND_TOTALS | {"inserted_marker"},
-    batch_adjust=_widen_by_catch_up,
     cli_options=(
         CliOption(
             "--max-gap",

@@ -260,8 +260,9 @@ def catch_up_rows(t: np.ndarray, x: np.ndarray, y: np.ndarray, ele: np.ndarray, 
     -------
     flag : bool per fix, the catch-up fixes.
     info : ``catch_up_gaps`` (gaps checked), ``catch_up_unresolved``, ``catch_up_kept_runs``,
-        ``catch_up_q_h`` / ``catch_up_q_v`` (m^2/s^3) and ``catch_up_extra_s`` (the longest time
-        by which removing a catch-up lengthens its gap).
+        ``catch_up_q_h`` / ``catch_up_q_v`` (m^2/s^3), ``catch_up_extra_s`` (the longest time
+        by which removing a catch-up lengthens its gap) and ``catch_up_unresolved_at`` (the positions
+        of the last fix before each unresolved gap, for the report).
     """
     n = len(t)
     flag = np.zeros(n, dtype=bool)
@@ -284,6 +285,7 @@ def catch_up_rows(t: np.ndarray, x: np.ndarray, y: np.ndarray, ele: np.ndarray, 
     fit_pieces = [p for g, (_, c) in zip(gaps, first) for p in (g.before, c) if len(p)]
     if not fit_pieces:
         info["catch_up_unresolved"] = len(gaps)
+        info["catch_up_unresolved_at"] = [g.first - 1 for g in gaps]
         return flag, info
     fit_rows, fit_starts = _blocks(fit_pieces)
     q_h = _fit_q(t[fit_rows], np.column_stack((xm[fit_rows], ym[fit_rows])), sigma_h ** 2, fit_starts, "horizontal")
@@ -323,6 +325,7 @@ def catch_up_rows(t: np.ndarray, x: np.ndarray, y: np.ndarray, ele: np.ndarray, 
             prediction[j] = pred
         pending = [j for j in pending if lengths.get(j) is None]
     info["catch_up_unresolved"] = sum(lengths.get(j) is None for j in range(len(gaps)))
+    info["catch_up_unresolved_at"] = [gaps[j].first - 1 for j in range(len(gaps)) if lengths.get(j) is None]
 
     def after_run(js: list[int]) -> list[tuple[np.ndarray, np.ndarray]]:
         """Window: the run and the ``passes`` fixes after it; context: ``context_s`` after that."""

@@ -20,7 +20,7 @@ from typing import Any, Callable, Mapping
 #: ``plane`` the track already projected to metres (``cleaning_base.planar``), ``before`` the
 #: track's totals before the tool, ``want_std`` whether to compute per-point uncertainty
 #: (False, True, or ``"vertical"`` for the elevation band only), ``inserted_marker`` the opaque
-#: payload to give points the tool inserts (made by :mod:`editor.io.payload`; ``None``: unmarked).
+#: payload to give points the tool inserts (made by :mod:`editor.model.payload`; ``None``: unmarked).
 OPTIONAL_INPUTS = frozenset({"plane", "before", "want_std", "inserted_marker"})
 
 
@@ -92,8 +92,6 @@ class ToolDescriptor:
     batch_order : place in the full clean (lower runs first); ``None``: the editor only.
     batch_default : whether the full clean runs it unless told otherwise.
     accepts : which of :data:`OPTIONAL_INPUTS` the function takes.
-    batch_adjust : ``(params, info of the earlier steps on this track) -> params`` in the full
-        clean (the gap filler widens its longest gap by the catch-up the spike step removed).
     cli_switch : whether ``clean`` gets ``--key`` / ``--no-key`` (off for tools whose options
         already say on/off). cli_aliases : other spellings of the switch.
     cli_options : further ``clean`` options. panel : ``"standard"``, or ``"strength"`` for the
@@ -110,7 +108,6 @@ class ToolDescriptor:
     batch_order: int | None = None
     batch_default: bool = True
     accepts: frozenset[str] = frozenset()
-    batch_adjust: Callable[[Any, Mapping[str, Any]], Any] | None = None
     cli_switch: bool = True
     cli_aliases: tuple[str, ...] = ()
     cli_options: tuple[CliOption, ...] = ()

@@ -34,10 +34,16 @@ end headings are well measured and a bend in the gap is real.
 Gaps longer than ``max_gap_s`` are not filled: a smooth curve over minutes of
 unknown travel would be invention. They are left as they are
 (``long_gap="leave"``) or the segment is split there (``"split"``), so that no
-distance is counted across them.
+distance is counted across them. The limit is held against the signal loss as
+recorded: where the spike tool removed fixes beside a gap (the catch-up after a
+tunnel) it marked the fix after it with the gap's recorded length
+(:func:`editor.model.payload.gap_as_recorded_s`), and that is what the limit sees,
+while the points are placed between the good fixes the tool joins. Every gap
+left alone is reported with its place and reason in ``info["notes"]``
+("gap at 12.4 km: 125 s, over the 120 s limit").
 
 Inserted points carry the payload ``inserted_marker`` the caller passes (the
-editor and the batch command pass :data:`editor.io.payload.GAP_FILL_MARKER`;
+editor and the batch command pass :data:`editor.model.payload.GAP_FILL_MARKER`;
 processing never builds file content itself) unless ``mark_inserted`` is False.
 Everything here is an estimate, not a measurement.
 """
@@ -48,6 +54,7 @@ from typing import Any
 
 import numpy as np
 
+from ..model.payload import gap_as_recorded_s, strip_gap_record
 from ..model.document import Track
 from ..model.points import ALL_COLUMNS, PointTable
 from .activity import Activity
@@ -57,7 +64,7 @@ from .kalman import Problem
 from .proposal import Proposal, make_proposal
 from .scalar_search import most_likely
 from .smoothing import LOG10_Q_RANGE
-from .stats import StatsParams, Totals
+from .stats import StatsParams, Totals, distance_along
 
 
 @dataclass(frozen=True)
@@ -70,7 +77,8 @@ class GapParams:
         loggers jitter by a second or two, a tunnel or a pocket loses tens of seconds).
     min_gap_s : ... and at least this long (default 10 s).
     max_gap_s : longer gaps are not filled (default 120 s: two minutes of walking is 150 m,
-        of cycling a kilometre, about as far as a smooth guess stays useful).
+        of cycling a kilometre, about as far as a smooth guess stays useful). Held against the gap
+        as recorded: points the spike tool removed beside a gap do not make it longer.
     long_gap : ``"leave"`` (default) or ``"split"`` the segment at gaps longer than ``max_gap_s``.
     activity : preset name or ``"auto"``; its process noise is the fallback when the context
         is too short to fit one.
@@ -109,6 +117,15 @@ def find_gaps(t_s: np.ndarray, factor: float, min_gap_s: float) -> tuple[np.ndar
     return np.flatnonzero((dt > factor * median) & (dt >= min_gap_s)), median
 
 
+def gap_note(at_m: float, span_s: float, recorded_s: float | None, params: GapParams) -> str:
+    """Why a gap was not filled, for a rider: ``"gap at 12.4 km: 125 s, over the 120 s limit (left as it is)"``."""
+    length = f"{span_s:.0f} s"
+    if recorded_s is not None and recorded_s < span_s:
+        length += f" ({recorded_s:.0f} s without signal)"
+    done = "segment split there" if params.long_gap == "split" else "left as it is"
+    return f"gap at {at_m / 1000:.1f} km: {length}, over the {params.max_gap_s:.0f} s limit ({done})"
+
+
 def _sigma(given, floor, t, *cols) -> float:
     if given is not None:
         return float(given)
@@ -136,7 +153,14 @@ def fill_gaps(track: Track, params: GapParams = GapParams(), *, rows=None, track
     activity = activity_for(pt, params.activity)
     gap_rows, gap_times, gap_counts, split_rows, unfilled = [], [], [], [], []
     windows = []  # (context rows, new times) per filled gap
-    for a, b in timed_segments(pt, min_points=2):
+    notes: list[str] = []
+    along = None
+    extra = track.points.extra
+    timed = timed_segments(pt, min_points=2)
+    for number, (a, b) in enumerate(pt.bounds):
+        if b - a >= 2 and (a, b) not in timed and allowed[a:b].any():
+            notes.append(f"segment {number + 1}: its times are missing or out of order, so gaps cannot be found")
+    for a, b in timed:
         t = pt.t_s[a:b]
         found, median = find_gaps(t, params.gap_factor, params.min_gap_s)
         for g in found.tolist():
@@ -144,8 +168,11 @@ def fill_gaps(track: Track, params: GapParams = GapParams(), *, rows=None, track
             if not (allowed[row] and allowed[row + 1]):
                 continue
             span = t[g + 1] - t[g]
-            if span > params.max_gap_s:
+            recorded = gap_as_recorded_s(extra[row + 1])
+            if (span if recorded is None else min(span, recorded)) > params.max_gap_s:
                 (split_rows if params.long_gap == "split" else unfilled).append(row)
+                along = distance_along(track) if along is None else along
+                notes.append(gap_note(along[row], span, recorded, params))
                 continue
             count = int(np.floor((span - 0.5 * median) / median))
             if count < 1:
@@ -173,7 +200,8 @@ def fill_gaps(track: Track, params: GapParams = GapParams(), *, rows=None, track
     info = {"activity": activity.name, "gaps": len(all_gaps), "filled": len(gap_rows), "split": len(split_rows),
             "unfilled": len(unfilled), "inserted": len(inserted), "sigma_h_m": sigmas[0], "sigma_v_m": sigmas[1],
             "q_h": sigmas[2], "q_v": sigmas[3], "ele_limited": sigmas[4],
-            "max_inserted_sigma_h_m": float(np.nanmax(sigma_h[inserted])) if len(inserted) else 0.0}
+            "max_inserted_sigma_h_m": float(np.nanmax(sigma_h[inserted])) if len(inserted) else 0.0,
+            "notes": notes}
     reasons = {"inserted": inserted, "gap": all_gaps, "split": np.array(sorted(split_rows), dtype=np.int64),
                "unfilled": np.array(sorted(unfilled), dtype=np.int64)}
     if not len(inserted) and not split_rows:
@@ -305,6 +333,9 @@ def _assemble(track, pt, gap_rows, counts, gap_times, windows, split_rows, param
                 columns[key][inserted_at] = np.nan
         if params.mark_inserted and inserted_marker is not None:
             columns["extra"][inserted_at] = inserted_marker
+        # the fix after a filled gap is no longer after a gap: drop the spike tool's record of it
+        after = new_index[gap_rows + 1]
+        columns["extra"][after] = [strip_gap_record(e) for e in columns["extra"][after]]
         sigma_h[inserted_at], sigma_v[inserted_at] = sh, sv
     starts = (track.segment_starts + shift[np.minimum(track.segment_starts, n - 1)] if n
               else track.segment_starts.copy())
@@ -313,4 +344,4 @@ def _assemble(track, pt, gap_rows, counts, gap_times, windows, split_rows, param
     return PointTable(**columns), source, starts, sigma_h, sigma_v, sigmas
 
 
-__all__ = ["GapParams", "fill_gaps", "find_gaps", "monotone_bridge"]
+__all__ = ["GapParams", "fill_gaps", "find_gaps", "gap_note", "monotone_bridge"]

@@ -13,10 +13,10 @@ Order of the steps, and why
    signal-loss gap.
 2. **Fill gaps** next: it needs clean context on both sides, and it refills the
    holes the spike step leaves where a catch-up run was removed. Removing a
-   catch-up lengthens its gap; the longest gap filled is measured on the gap as
-   recorded, i.e. ``max_gap_s`` is raised by the longest catch-up removed
-   (``info["catch_up_extra_s"]`` of the spike step), so that a gap short enough
-   to fill stays fillable.
+   catch-up lengthens its gap; the spike step marks the fix after it with the gap
+   as recorded and the gap tool holds its limit against that (see
+   :mod:`editor.model.payload`), so a gap short enough to fill stays fillable, in
+   the window's tools applied one by one exactly as here.
 3. **Collapse stops** before smoothing: the smoother then sees a traveller who
    really stands still instead of metres of jitter, so the strength it picks
    fits the moving parts, and the stops add no distance.
@@ -25,8 +25,9 @@ Order of the steps, and why
    and on raw data it would keep the noise (the farthest points from a chord are
    the wildest).
 
-The order is each tool's ``batch_order`` (:mod:`editor.processing.builtin_tools`); a
-step's ``batch_adjust`` sees the earlier steps' results (the gap filler's widening above).
+The order is each tool's ``batch_order`` (:mod:`editor.processing.builtin_tools`); steps
+pass nothing to each other but the track (and the marks its points carry), so the window's
+tools applied one by one in this order give the same result.
 Steps that need timestamps (spikes, gaps, stops) leave untimed segments alone.
 Cleaned tracks are estimates, not surveyed data, and are not for navigation.
 
@@ -93,7 +94,8 @@ class CleanParams:
 
 @dataclass(frozen=True)
 class StepReport:
-    """What one step did to one track (counts of rows; ``info`` keeps the tool's scalar numbers)."""
+    """What one step did to one track (counts of rows; ``info`` keeps the tool's scalar numbers;
+    ``notes`` what the tool left alone and why, for a rider; ``params`` the parameters it ran with)."""
 
     tool: str
     label: str
@@ -104,6 +106,8 @@ class StepReport:
     before: Totals
     after: Totals
     info: dict
+    notes: tuple[str, ...] = ()
+    params: object = None
 
 
 @dataclass
@@ -137,7 +141,7 @@ def clean_document(doc: Document, params: CleanParams | None = None,
     """Clean every track of ``doc``; return the cleaned copy and a report. ``doc`` is not changed.
 
     ``inserted_marker``: the payload of points a step inserts (the caller's file format makes it,
-    e.g. :data:`editor.io.payload.GAP_FILL_MARKER`); ``None`` leaves them unmarked.
+    e.g. :data:`editor.model.payload.GAP_FILL_MARKER`); ``None`` leaves them unmarked.
 
     ``progress(fraction, step_label)`` is called before each step and once at the end (1.0).
     Waypoints, routes, metadata, extensions and every point the steps did not touch are kept.
@@ -156,12 +160,9 @@ def clean_document(doc: Document, params: CleanParams | None = None,
     done = 0
     for index, steps in enumerate(plans):
         plane, before = planes[index], None
-        earlier: dict[str, Any] = {}  # scalar results of this track's earlier steps, for ``batch_adjust``
         for number, (tool, step_params) in enumerate(steps):
             if progress is not None:
                 progress(done / total, f"track {index + 1}: {tool.label.lower()}")
-            if tool.batch_adjust is not None:
-                step_params = tool.batch_adjust(step_params, earlier)
             track = out.tracks[index]
             # the shared plane and the known totals; no posterior standard deviations (the batch keeps none)
             optional = tool.optional_inputs(plane=plane, before=before, want_std=False,
@@ -173,12 +174,11 @@ def clean_document(doc: Document, params: CleanParams | None = None,
                 if plane is not None and number + 1 < len(steps):
                     plane = replan(plane, out.tracks[index], proposal.source_rows, proposal.changed)
             before = proposal.after
-            info = _scalars(proposal.info)
-            earlier.update(info)
             report.steps.append(StepReport(
                 tool=proposal.tool, label=proposal.label, track=index, removed=len(proposal.removed),
                 inserted=len(proposal.inserted), changed=int(proposal.changed.sum()), before=proposal.before,
-                after=proposal.after, info=info))
+                after=proposal.after, info=_scalars(proposal.info), notes=tuple(proposal.info.get("notes", ())),
+                params=step_params))
             done += 1
     # every step's proposal already carries the totals before and after it: reuse them per track
     for index, track in enumerate(out.tracks):

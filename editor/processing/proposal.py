@@ -38,6 +38,8 @@ class Proposal:
         (metres) of horizontal position and elevation, for an uncertainty band.
     before, after : totals of the track before and after.
     info : tool-specific numbers to report (chosen q, log-likelihood, kept count, ...).
+    params : the parameters the caller ran the tool with, when it says (the window does, for the
+        cleaning record of a saved copy); tools leave it ``None``.
     """
 
     tool: str
@@ -58,6 +60,7 @@ class Proposal:
     #: the track the proposal was computed from; lets :meth:`edit` store only what changed
     base_track: Track | None = field(default=None, repr=False)
     _edit: Any = field(default=None, init=False, repr=False, compare=False)
+    params: Any = None
 
     @property
     def inserted(self) -> np.ndarray:

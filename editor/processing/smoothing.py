@@ -47,10 +47,21 @@ from .proposal import Proposal, make_proposal
 from .scalar_search import most_likely
 from .stats import StatsParams
 
-#: log10 of q at strength 0 and 100 per axis (m^2/s^3). At the default sigmas the
-#: smoother's time scale (r/q)^(1/4) runs from about 1 s to 70 s horizontally and
-#: from about 3 s to 5 min vertically; typical automatic estimates fall mid-range.
+#: Range of log10 q (m^2/s^3) that the automatic (maximum-likelihood) estimate searches, per axis,
+#: from the loosest to the smoothest model. At the default sigmas the smoother's time scale
+#: (r/q)^(1/4) runs from about 1 s to 70 s horizontally and from about 3 s to 5 min vertically.
+#: The gap filler and the catch-up test search the same range.
 LOG10_Q_RANGE = {"horizontal": (2.0, -6.0), "vertical": (0.0, -8.0)}
+#: The strength scale, the one mapping used by the smoothing panel and ``clean --smooth N``:
+#: strength 0 keeps the recording exactly (the limit q -> infinity, done by not smoothing the axis),
+#: strength 100 is the smoothest end of :data:`LOG10_Q_RANGE` (the smoothest model the estimate
+#: may pick), and strengths in between are log-linear in q from ``STRENGTH_LOG10_Q[axis][0]``.
+#: That start, 1e6 m^2/s^3, moves a fix recorded every second by under a millimetre (median, on the
+#: demo ride, 5 m and 10 m scatter), so the scale has no jump just above 0.
+STRENGTH_LOG10_Q = {"horizontal": (6.0, LOG10_Q_RANGE["horizontal"][1]),
+                    "vertical": (6.0, LOG10_Q_RANGE["vertical"][1])}
+#: Lowest and highest strength.
+STRENGTH_MIN, STRENGTH_MAX = 0.0, 100.0
 #: Speed assumed to turn distance into time for segments without timestamps, m/s.
 NOMINAL_SPEED_MPS = 1.0
 #: Search tolerance of the automatic estimate, in log10 q.
@@ -64,7 +75,8 @@ class SmoothParams:
     Attributes
     ----------
     horizontal_strength, vertical_strength : 0..100, or ``None`` for automatic
-        (maximum likelihood). See :func:`strength_to_q`.
+        (maximum likelihood). 0 keeps the recording exactly, 100 is the smoothest model the
+        automatic estimate may pick. See :data:`STRENGTH_LOG10_Q` and :func:`strength_to_q`.
     horizontal_sigma_m : 5.0 m, standard deviation of one horizontal coordinate.
         The GPS SPS Performance Standard (2001) gives <= 13 m horizontal error at
         95 % (global average): 13 / 2.45 = 5.3 m per axis for a circular normal
@@ -90,17 +102,31 @@ class SmoothParams:
 def strength_to_q(strength: float, axis: str) -> float:
     """Process noise q (m^2/s^3) for a strength 0..100: log-linear, decreasing (more smoothing).
 
-    ``log10 q = hi + (lo - hi) * strength / 100`` with ``(hi, lo)`` from
-    :data:`LOG10_Q_RANGE` (horizontal: 1e2..1e-6, vertical: 1..1e-8).
+    ``log10 q = hi + (lo - hi) * strength / 100`` with ``(hi, lo)`` from :data:`STRENGTH_LOG10_Q`
+    (1e6..1e-6 horizontally, 1e6..1e-8 vertically); strength 0 gives ``inf`` (no smoothing: the
+    recording as it is). Raises ``ValueError`` outside :data:`STRENGTH_MIN`..:data:`STRENGTH_MAX`.
     """
-    hi, lo = LOG10_Q_RANGE[axis]
-    return float(10.0 ** (hi + (lo - hi) * float(strength) / 100.0))
+    strength = float(strength)
+    if not STRENGTH_MIN <= strength <= STRENGTH_MAX:
+        raise ValueError(f"smoothing strength must be between {STRENGTH_MIN:g} and {STRENGTH_MAX:g}, "
+                         f"not {strength:g}")
+    if strength == STRENGTH_MIN:
+        return float("inf")
+    hi, lo = STRENGTH_LOG10_Q[axis]
+    return float(10.0 ** (hi + (lo - hi) * strength / 100.0))
 
 
 def q_to_strength(q: float, axis: str) -> float:
-    """Exact inverse of :func:`strength_to_q` (may fall outside 0..100 for q outside the range)."""
-    hi, lo = LOG10_Q_RANGE[axis]
+    """Inverse of :func:`strength_to_q` (``inf`` gives 0; may fall outside 0..100 for q outside the scale)."""
+    if np.isinf(q) and q > 0:
+        return STRENGTH_MIN
+    hi, lo = STRENGTH_LOG10_Q[axis]
     return float((np.log10(q) - hi) / (lo - hi) * 100.0)
+
+
+def keeps_recording(strength: float | None) -> bool:
+    """True for the strength that proposes no change (0): the axis is left as recorded."""
+    return strength is not None and float(strength) == STRENGTH_MIN
 
 
 @dataclass(frozen=True)
@@ -221,10 +247,10 @@ def _problems(arrays: _TrackArrays, params: SmoothParams, rows=None):
         keep = np.isin(arrays.rows, np.asarray(rows, dtype=np.int64))
     out = {}
     for axis, enabled, z, factor, sigma in (
-            ("horizontal", params.smooth_horizontal, np.column_stack([arrays.x, arrays.y]),
-             arrays.r_h, params.horizontal_sigma_m),
-            ("vertical", params.smooth_elevation, arrays.ele[:, None], arrays.r_v,
-             params.vertical_sigma_m)):
+            ("horizontal", params.smooth_horizontal and not keeps_recording(params.horizontal_strength),
+             np.column_stack([arrays.x, arrays.y]), arrays.r_h, params.horizontal_sigma_m),
+            ("vertical", params.smooth_elevation and not keeps_recording(params.vertical_strength),
+             arrays.ele[:, None], arrays.r_v, params.vertical_sigma_m)):
         if keep is not None:
             z = np.where(keep[:, None], z, np.nan)
         if not enabled or not np.isfinite(z).any():
@@ -285,9 +311,16 @@ def _estimate(arrays: _TrackArrays, params: SmoothParams, rows, progress, cancel
     (q_h, r_h, ll_h), (q_v, r_v, ll_v) = values["horizontal"], values["vertical"]
     return StrengthEstimate(
         q_h=q_h, q_v=q_v, r_h=r_h, r_v=r_v,
-        horizontal_strength=q_to_strength(q_h, "horizontal") if np.isfinite(q_h) else np.nan,
-        vertical_strength=q_to_strength(q_v, "vertical") if np.isfinite(q_v) else np.nan,
+        horizontal_strength=_reported(params.horizontal_strength, q_h, "horizontal"),
+        vertical_strength=_reported(params.vertical_strength, q_v, "vertical"),
         loglik_h=ll_h, loglik_v=ll_v, evaluations=count[0])
+
+
+def _reported(strength: float | None, q: float, axis: str) -> float:
+    """The strength to report for an axis: 0 as asked, else the one of the q used (NaN if none)."""
+    if keeps_recording(strength):
+        return STRENGTH_MIN
+    return q_to_strength(q, axis) if np.isfinite(q) else np.nan
 
 
 def _fixed(params: SmoothParams, problems) -> StrengthEstimate:
@@ -298,8 +331,10 @@ def _fixed(params: SmoothParams, problems) -> StrengthEstimate:
     return StrengthEstimate(
         q_h=q["horizontal"], q_v=q["vertical"], r_h=params.horizontal_sigma_m ** 2,
         r_v=params.vertical_sigma_m ** 2,
-        horizontal_strength=params.horizontal_strength if problems["horizontal"] is not None else np.nan,
-        vertical_strength=params.vertical_strength if problems["vertical"] is not None else np.nan,
+        horizontal_strength=(params.horizontal_strength if problems["horizontal"] is not None
+                             or keeps_recording(params.horizontal_strength) else np.nan),
+        vertical_strength=(params.vertical_strength if problems["vertical"] is not None
+                           or keeps_recording(params.vertical_strength) else np.nan),
         loglik_h=np.nan, loglik_v=np.nan, evaluations=0)
 
 

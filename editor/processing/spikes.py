@@ -31,7 +31,10 @@ never taken below ``min_*_sigma_m``; process noise comes from the activity.
 The first fixes after a signal-loss gap are tested against the backward
 prediction from the clean track that follows the gap; see
 :mod:`editor.processing.catch_up`. They are proposed for removal with reason
-``"catch-up"``, so that the gap tool refills them along with the gap.
+``"catch-up"``, so that the gap tool refills them along with the gap. Removing
+them lengthens the gap; the first fix kept after it is marked with the gap as
+recorded (:func:`editor.model.payload.mark_gap_as_recorded`), so that the gap tool's
+length limit still applies to the signal loss, not to what this tool removed.
 
 3. Speed and acceleration (runs: gross catch-up, cold starts)
 -------------------------------------------------------------
@@ -60,6 +63,7 @@ from typing import Any
 
 import numpy as np
 
+from ..model.payload import gap_as_recorded_s, mark_gap_as_recorded
 from ..model.document import Track
 from .activity import Activity
 from .catch_up import CatchUpSettings, catch_up_rows
@@ -67,7 +71,7 @@ from .cleaning_base import (PlanarTrack, activity_for, chi2_quantile, keep_propo
                             selection_mask, timed_segments, true_runs, window_speed)
 from .kalman import innovations, rts_smooth
 from .proposal import Proposal
-from .stats import StatsParams, Totals
+from .stats import StatsParams, Totals, distance_along
 
 #: Rows of context on each side of a questioned fix in the robust stage.
 CONTEXT_ROWS = 25
@@ -344,13 +348,62 @@ def despike(track: Track, params: SpikeParams = SpikeParams(), *, rows: np.ndarr
     if params.check_speed and len(rows_t) >= 3:
         speed, unresolved = speed_outliers(pt, activity, sigma_h, params, timed & ~spike & ~catch_up)
         speed &= allowed
+    remove = spike | speed | catch_up
+    lengthened = _lengthened_gaps(track, pt, remove, params.min_gap_s)
+    unchecked = rows_t[np.asarray(catch_info.pop("catch_up_unresolved_at", []), dtype=np.int64)]
+    notes = []
+    if len(unchecked):
+        along = distance_along(track)
+        window = 2 * params.catch_up_window_s
+        notes = [f"gap at {along[row] / 1000:.1f} km: the points after it do not settle within {window:.0f} s, "
+                 "so a catch-up there was not looked for" for row in unchecked.tolist()]
     info = {"activity": activity.name, "sigma_h_m": sigma_h, "sigma_v_m": sigma_v,
             "gate_h": gate_h, "gate_v": gate_v, "confidence": params.confidence,
             "spikes": int(spike.sum()), "speed": int(speed.sum()), "catch_up": int(catch_up.sum()),
-            "unresolved_zones": unresolved, **catch_info}
-    return keep_proposal("despike", "Remove spikes", track_index, track, ~(spike | speed | catch_up), stats_params,
-                         before=before, reasons={"spike": np.flatnonzero(spike), "speed": np.flatnonzero(speed),
-                                                 "catch-up": np.flatnonzero(catch_up)}, info=info)
+            "unresolved_zones": unresolved, "gaps_lengthened": len(lengthened), "notes": notes, **catch_info}
+    proposal = keep_proposal("despike", "Remove spikes", track_index, track, ~remove, stats_params,
+                             before=before, reasons={"spike": np.flatnonzero(spike), "speed": np.flatnonzero(speed),
+                                                     "catch-up": np.flatnonzero(catch_up)}, info=info)
+    if lengthened:
+        # the first fix kept after each lengthened gap remembers the gap as recorded (editor.model.payload)
+        at = np.searchsorted(proposal.source_rows, [row for row, _ in lengthened])
+        extra = proposal.points.extra
+        for i, (_, seconds) in zip(at.tolist(), lengthened):
+            extra[i] = mark_gap_as_recorded(extra[i], seconds)
+    return proposal
+
+
+def _lengthened_gaps(track: Track, pt: PlanarTrack, remove: np.ndarray, min_gap_s: float) -> list[tuple[int, float]]:
+    """``(first kept row after, recorded seconds)`` of every signal-loss gap that removing ``remove`` creates
+    or lengthens.
+
+    A gap (a step longer than ``GAP_FACTOR`` median intervals and ``min_gap_s``) between two kept
+    fixes whose removed fixes in between were recorded with shorter steps: the recorded gap is the
+    longest recorded step there (or what an earlier removal's marker says).
+    """
+    out: list[tuple[int, float]] = []
+    if not remove.any():
+        return out
+    first, stop = true_runs(remove)
+    for a, b in timed_segments(pt, min_points=2):
+        t = pt.t_s[a:b]
+        dt = np.diff(t)
+        positive = dt[dt > 0]
+        if not len(positive):
+            continue
+        limit = max(GAP_FACTOR * float(np.median(positive)), min_gap_s)
+        inside = (first > a) & (stop < b)  # a removed run with a kept fix on both sides
+        for r0, r1 in zip(first[inside].tolist(), stop[inside].tolist()):
+            before_row, after_row = r0 - 1, r1
+            span = pt.t_s[after_row] - pt.t_s[before_row]
+            if not span >= limit:
+                continue
+            recorded = float(np.max(np.diff(pt.t_s[before_row:after_row + 1])))
+            earlier = [gap_as_recorded_s(e) for e in track.points.extra[r0:after_row + 1]]
+            recorded = max([recorded] + [e for e in earlier if e is not None])
+            if recorded < span:
+                out.append((after_row, recorded))
+    return out
 
 
 __all__ = ["SpikeParams", "despike", "gate", "gate_outliers", "speed_outliers"]

@@ -9,7 +9,7 @@ Thresholds (defaults in :class:`StatsParams`)
     A step counts as moving when its average speed is above 0.5 m/s (1.8 km/h),
     slower than a slow walk. Common practice; a design choice, not a standard.
 ``climb_threshold_m = 5.0``
-    Ascent and descent use a dead band (hysteresis): a change of direction is
+    Ascent and descent use a climb threshold (a hysteresis): a change of direction is
     only accepted once the elevation has moved this far from the last turning
     point. Recorded elevation is quantised to 1 m and wanders by a few metres
     (common practice), so every ±1 m step would otherwise count as climbing; see
@@ -83,7 +83,7 @@ class Totals:
 
 
 def climb(elevation: np.ndarray, threshold_m: float) -> tuple[float, float]:
-    """Total ascent and descent (metres) with a dead band of ``threshold_m``.
+    """Total ascent and descent (metres) with a climb threshold of ``threshold_m`` (a hysteresis).
 
     NaN elevations are skipped. A rise is only counted once the profile has
     turned down again by more than the threshold, or at the end of the data;
@@ -172,6 +172,21 @@ def segment_totals(track: Track, params: StatsParams = StatsParams()) -> list[To
     t = p.time_s()
     return [_range_totals(p.lat[a:b], p.lon[a:b], p.ele[a:b], t[a:b], params, 1)
             for a, b in track.segment_bounds()]
+
+
+def distance_along(track: Track) -> np.ndarray:
+    """Distance (metres) from the track's start to each point, step by step as in the totals.
+
+    Nothing is counted between segments (a segment starts where the previous one ended);
+    steps with a missing coordinate count 0.
+    """
+    p = track.points
+    steps = step_lengths(p.lat, p.lon) if len(p) > 1 else np.zeros(0)
+    steps = np.where(np.isfinite(steps), steps, 0.0)
+    starts = np.asarray(track.segment_starts, dtype=np.int64)
+    starts = starts[(starts > 0) & (starts < len(p))]
+    steps[starts - 1] = 0.0
+    return np.concatenate(([0.0], np.cumsum(steps))) if len(p) else np.zeros(0)
 
 
 def track_totals(track: Track, params: StatsParams = StatsParams()) -> Totals:

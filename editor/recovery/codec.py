@@ -13,7 +13,7 @@ value is one of a few plain shapes:
   distinct values (``kinds`` blob + one UTF-8 blob of NUL-separated strings, or a
   JSON list when a string holds a NUL) and a ``codes`` blob indexing it;
 * ``{"payload": ...}``: one opaque payload (``None``, a string, or the fields of
-  :class:`~editor.io.payload.PointExtra` / ``ElementExtra``);
+  :class:`~editor.model.payload.PointExtra` / ``ElementExtra``);
 * ``{"table": {...}}``: a :class:`~editor.model.points.PointTable`, column by
   column. A table that replaces a track's points may say ``{"same": true}`` for a
   column equal to the one the track had just before, so applying a tool that
@@ -29,7 +29,7 @@ from typing import Any, Callable, Sequence
 
 import numpy as np
 
-from ..io.payload import ElementExtra, PointExtra
+from ..model.payload import ElementExtra, PointExtra
 from ..model import edits as model_edits
 from ..model.document import Document
 from ..model.points import ALL_COLUMNS, PointTable

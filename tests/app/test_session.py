@@ -35,7 +35,7 @@ def test_caches_belong_to_one_revision_and_track():
 def test_copies_and_the_salvaged_document(tmp_path):
     session = Session()
     session.replace_document(two_tracks(), tmp_path / "ride.gpx", read_only=True)
-    assert session.default_copy_path(Path.home()) == cleaned_copy_name(tmp_path / "ride.gpx") == tmp_path / "ride.tidy.gpx"
+    assert session.default_copy_path(Path.home()) == cleaned_copy_name(tmp_path / "ride.gpx") == tmp_path / "ride-cleaned.gpx"
     assert session.saved_copy(tmp_path / "copy.gpx")  # the salvaged points now live in the copy: editable
     assert not session.read_only and session.source_path == tmp_path / "copy.gpx"
     assert session.default_copy_path(Path.home()) == tmp_path / "copy.gpx"
@@ -43,4 +43,4 @@ def test_copies_and_the_salvaged_document(tmp_path):
     assert session.is_original(tmp_path / "copy.gpx") and not session.is_original(tmp_path / "other.gpx")
     empty = Session()
     assert empty.track() is None and not empty.has_content()
-    assert empty.default_copy_path(tmp_path) == tmp_path / "track.tidy.gpx"
+    assert empty.default_copy_path(tmp_path) == tmp_path / "track-cleaned.gpx"

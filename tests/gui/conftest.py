@@ -73,7 +73,8 @@ def dialogs(monkeypatch) -> DialogRecorder:
     monkeypatch.setattr(box, "information", staticmethod(information))
     monkeypatch.setattr(box, "about", staticmethod(about))
     monkeypatch.setattr(QtWidgets.QFileDialog, "getSaveFileName",
-                        staticmethod(lambda *a, **k: (rec.asked.append(("save", "")) or (rec.save_path, ""))))
+                        staticmethod(lambda *a, **k: (rec.asked.append(("save", a[1] if len(a) > 1 else k.get(
+                            "caption", ""))) or (rec.save_path, ""))))
     monkeypatch.setattr(QtWidgets.QFileDialog, "getOpenFileName",
                         staticmethod(lambda *a, **k: (rec.asked.append(("open", "")) or (rec.open_path, ""))))
     monkeypatch.setattr(QtWidgets.QInputDialog, "getDouble",

@@ -51,7 +51,7 @@ def test_save_cleaned_copy_is_schema_valid_and_leaves_the_original_alone(window,
     window.state.set_selection([100])
     window.editing.insert_point()
     assert window.isWindowModified()
-    expected = tmp_path / "morning ride.tidy.gpx"
+    expected = tmp_path / "morning ride-cleaned.gpx"
     dialogs.save_path = str(expected)
     assert window.files.save_cleaned_copy()
     assert expected.exists()

@@ -173,7 +173,10 @@ def test_save_over_the_original_starts_a_fresh_journal(window, tmp_path, qtbot, 
     window.recovery.recorder = None
     found, unreadable = find_journals(window.settings.recovery_dir)
     assert unreadable == [] and len(found) == 1
-    assert replay(found[0].journal).doc.equals(expected)
+    restored = replay(found[0].journal).doc
+    # the saved file also carries its cleaning record (metadata), which the live document does not
+    assert len(restored.tracks) == len(expected.tracks)
+    assert all(a.equals(b) for a, b in zip(restored.tracks, expected.tracks))
     found[0].journal.discard()
 
 

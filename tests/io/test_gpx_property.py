@@ -15,7 +15,7 @@ from hypothesis import strategies as st
 from editor.io.gpx import scan as gpx_scan
 from editor.io.gpx import gpx_bytes, read_gpx_bytes
 from editor.io.gpx.xml_parts import escape_attribute, escape_text
-from editor.io.payload import DocumentExtra, ElementExtra, mark_inserted, point_extra
+from editor.model.payload import DocumentExtra, ElementExtra, mark_inserted, point_extra
 from editor.model import Document, PointTable, Route, Track
 
 EXT = "urn:example:random-extension"

@@ -8,7 +8,7 @@ import pytest
 from lxml import etree
 
 from editor.io.gpx import gpx_bytes, read_gpx, read_gpx_bytes, write_gpx
-from editor.io.payload import DocumentExtra, ElementExtra, PointExtra
+from editor.model.payload import DocumentExtra, ElementExtra, PointExtra
 from tests.io.samples import FULL_10, FULL_11, GPX11, LOGGER_11, MISPLACED_11, canonical, parse
 
 

@@ -111,7 +111,7 @@ GPX10 = """<?xml version="1.0" encoding="UTF-8"?>
 def test_gpx10_speed_and_course_survive_conversion_and_read_back(read_path, gpx_schema):
     """GPX 1.0 (Topografix 2002) has per-point speed (m/s) and course (degrees); GPX 1.1 has neither,
     so they go into our namespace, with the file's text, and read back as the same numbers."""
-    from editor.io.payload import recorded_motion
+    from editor.model.payload import recorded_motion
 
     doc = read_gpx_bytes(GPX10.encode())
     written = gpx_bytes(doc).decode()

@@ -3,10 +3,10 @@ import numpy as np
 from lxml import etree
 
 from editor.io.gpx import gpx_bytes, read_gpx_bytes
-from editor.io.payload import (TW_NS, PointExtra, extensions_of, inserted_mask, is_inserted, mark_inserted,
+from editor.model.payload import (TW_NS, PointExtra, extensions_of, inserted_mask, is_inserted, mark_inserted,
                                marker_xml, point_extra, strip_marker)
 from editor.model import Document, PointTable, Track
-from editor.io.payload import DocumentExtra
+from editor.model.payload import DocumentExtra
 from tests.io.samples import LOGGER_11
 
 

@@ -10,7 +10,7 @@ from editor.io.gpx import read_gpx
 from editor.model import Document
 from editor.processing.catch_up import CatchUpSettings, catch_up_rows
 from editor.processing.cleaning_base import planar
-from editor.io.payload import GAP_FILL_MARKER
+from editor.model.payload import GAP_FILL_MARKER
 from editor.processing.pipeline import CleanParams, clean_document
 from editor.processing.spikes import SpikeParams, despike
 
@@ -129,6 +129,9 @@ def test_a_gap_too_close_to_the_end_is_unresolved_not_guessed():
     track, off_h, _, first = after_gap(seed=1, n=712)  # only 12 s of fixes after the gap
     prop = despike(track, SpikeParams(activity="ride", check_speed=False))
     assert prop.info["catch_up_unresolved"] == 1 and len(prop.reasons["catch-up"]) == 0
+    # and the gap it could not check is reported with its place and the reason (issue 9, item 6)
+    (note,) = prop.info["notes"]
+    assert note.startswith("gap at ") and "do not settle within 60 s" in note and "not looked for" in note
 
 
 def test_only_selected_rows_are_removed():

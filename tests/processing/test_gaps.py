@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 from cleaning_tracks import track_from_xy, xy_of
 
-from editor.io.payload import GAP_FILL_MARKER, is_inserted
+from editor.model.payload import GAP_FILL_MARKER, is_inserted
 from editor.processing.gaps import GapParams, fill_gaps, find_gaps, monotone_bridge
 
 

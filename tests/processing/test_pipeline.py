@@ -8,7 +8,7 @@ from cleaning_tracks import hill_profile, track_from_xy, wandering_path
 
 from editor.geo.distance import geodesic_steps
 from editor.io.gpx import gpx_bytes, read_gpx_bytes
-from editor.io.payload import GAP_FILL_MARKER, is_inserted
+from editor.model.payload import GAP_FILL_MARKER, is_inserted
 from editor.model import Document, PointTable
 from editor.processing.cleaning_base import planar, replan
 from editor.processing.pipeline import CleanParams, clean_document, summary_line
@@ -58,7 +58,7 @@ def test_cleaned_hike_is_much_closer_to_the_truth():
     cleaned, report = clean_document(doc, CleanParams())
     true_distance, true_ascent = truth_totals(truth)
     raw, done = report.before, report.after
-    assert raw.ascent_m - true_ascent > 100  # the noise adds a lot of climbing, even with the dead band
+    assert raw.ascent_m - true_ascent > 100  # the noise adds a lot of climbing, even with the climb threshold
     # measured: raw ascent ~2,800 m and distance ~13.7 km against a true 150 m and 2.73 km;
     # cleaned within a few metres of both
     assert abs(done.ascent_m - true_ascent) < 0.05 * abs(raw.ascent_m - true_ascent)

@@ -47,13 +47,46 @@ def metric(track_or_points):
 
 def test_strength_mapping_is_monotone_log_scale_with_exact_inverse():
     for axis in ("horizontal", "vertical"):
-        s = np.linspace(0, 100, 11)
+        s = np.linspace(10, 100, 10)
         q = np.array([S.strength_to_q(v, axis) for v in s])
         assert np.all(np.diff(q) < 0)
         assert np.allclose(np.diff(np.log10(q)), np.diff(np.log10(q))[0])
         assert all(S.q_to_strength(S.strength_to_q(v, axis), axis) == pytest.approx(v) for v in s)
-    assert S.strength_to_q(0, "horizontal") == pytest.approx(1e2)
+        # 0 is the limit q -> infinity (the recording itself), and maps back to 0
+        assert S.strength_to_q(0, axis) == np.inf and S.q_to_strength(np.inf, axis) == 0
+        # 100 is the smoothest model the automatic estimate may pick (the end of its search range)
+        assert np.log10(S.strength_to_q(100, axis)) == pytest.approx(S.LOG10_Q_RANGE[axis][1])
+    assert S.strength_to_q(1e-9, "horizontal") == pytest.approx(1e6)
     assert S.strength_to_q(100, "vertical") == pytest.approx(1e-8)
+    with pytest.raises(ValueError, match="between 0 and 100"):
+        S.strength_to_q(101, "horizontal")
+
+
+DEMO = __import__("pathlib").Path(__file__).resolve().parents[2] / "demo_tracks"
+
+
+def test_strength_zero_keeps_the_recording_exactly_and_one_barely_moves_it():
+    from editor.io.gpx import read_gpx
+    from editor.processing.stats import track_totals
+
+    track = read_gpx(DEMO / "demo_ride.gpx").tracks[0]
+    prop = S.smooth(track, S.SmoothParams(horizontal_strength=0, vertical_strength=0))
+    assert prop.is_noop() and not prop.changed.any()
+    assert prop.points.equals(track.points)
+    assert prop.after == prop.before == track_totals(track)
+    assert prop.info["horizontal_strength"] == 0 and prop.info["vertical_strength"] == 0
+    # one axis at 0 leaves that axis bit for bit while the other is smoothed
+    elevation_only = S.smooth(track, S.SmoothParams(horizontal_strength=0, vertical_strength=60))
+    assert np.array_equal(elevation_only.points.lat, track.points.lat)
+    assert not np.array_equal(elevation_only.points.ele, track.points.ele, equal_nan=True)
+    # no jump just above 0: strength 1 moves a typical fix by far less than the 5 m scatter
+    # (median under 1 cm; fixes sharing a timestamp are averaged by the model, hence the max)
+    near = S.smooth(track, S.SmoothParams(horizontal_strength=1, vertical_strength=1))
+    x0, y0 = metric(track)
+    x1, y1 = metric(near.points)
+    moved = np.hypot(x1 - x0, y1 - y0)
+    assert np.median(moved) < 0.01 and abs(near.after.distance_m - near.before.distance_m) < 0.003 * \
+        near.before.distance_m
 
 
 def test_automatic_smoothing_recovers_q_and_reduces_error():

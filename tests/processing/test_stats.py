@@ -38,7 +38,7 @@ def test_white_noise_raw_ascent_follows_closed_form_and_threshold_removes_it():
     assert thresholded.mean() < 0.05 * expected
 
 
-def test_dead_band_ignores_one_metre_steps():
+def test_climb_threshold_ignores_one_metre_steps():
     # Elevation quantised to 1 m flickering between two values (common practice for logger data).
     e = np.array([200, 201, 200, 201, 200, 201, 201, 200] * 50, dtype=float)
     assert climb(e, 5.0) == (0.0, 0.0)

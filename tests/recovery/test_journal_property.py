@@ -11,8 +11,8 @@ from hypothesis import strategies as st
 
 from editor.model import hand_edits
 from editor.geo.projection import LocalProjection
-from editor.io.gpx import read_gpx, write_gpx
-from editor.io.payload import ElementExtra, PointExtra, mark_inserted
+from editor.io.gpx import gpx_bytes, read_gpx, read_gpx_bytes, write_gpx
+from editor.model.payload import ElementExtra, PointExtra, mark_inserted
 from editor.model import DeletePoints, InsertPoints, PointTable, SetValues, SplitSegment
 from editor.model.edits import EditSequence, MergeSegments
 from editor.processing.gaps import GapParams
@@ -95,6 +95,15 @@ def _edit(op: str, doc, s: int):
     return None
 
 
+def same(restored, live, saved_over: bool) -> bool:
+    """Exactly equal; after a save over the original, the journal starts from the file as written,
+    whose edited values are rounded to about 1 cm (editor.io.gpx.source_texts), so both must then
+    hold the same values once written and read back."""
+    if not saved_over:
+        return restored.equals(live)
+    return read_gpx_bytes(gpx_bytes(restored)).equals(read_gpx_bytes(gpx_bytes(live)))
+
+
 @settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(seed=st.integers(0, 1000), n=st.integers(6, 60),
        ops=st.lists(st.tuples(st.sampled_from(OPS), st.integers(0, 10_000)), min_size=1, max_size=14))
@@ -106,6 +115,7 @@ def test_restored_journal_equals_the_live_document(seed, n, ops):
         doc = read_gpx(source)
         recorder = JournalRecorder(Journal.create(folder, source))
         stack = StackModel(doc, recorder)
+        saved_over = False
         for op, s in ops:
             if op == "undo":
                 stack.set_index(stack.index - 1 - s % 3)
@@ -116,6 +126,7 @@ def test_restored_journal_equals_the_live_document(seed, n, ops):
                 recorder.clean_at(stack.clean)
             elif op == "save_over":  # what the window's keeper does after a save over the original
                 write_gpx(doc, source)
+                saved_over = True
                 stack.set_clean()
                 fresh = JournalRecorder(Journal.create(folder, source), recorder.live[:stack.index],
                                         offset=stack.index)
@@ -134,11 +145,11 @@ def test_restored_journal_equals_the_live_document(seed, n, ops):
             return
         assert len(found) == 1
         restored = replay(found[0].journal)
-        assert restored.doc.equals(doc)
+        assert same(restored.doc, doc, saved_over)
         assert restored.index == stack.index - recorder.offset
         labels = [c.label for c in stack.commands]
         assert [c.label for c in restored.commands] == labels[recorder.offset:len(recorder.live)]
         # Undo reaches the same states in both: the journal's bottom and the live stack there.
         stack.set_index(recorder.offset)
-        assert restored.rewind().equals(doc)
+        assert same(restored.rewind(), doc, saved_over)
         found[0].journal.discard()

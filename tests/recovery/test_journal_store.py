@@ -15,7 +15,7 @@ import numpy as np
 import pytest
 
 from editor.io.gpx import read_gpx
-from editor.io.payload import ElementExtra, PointExtra
+from editor.model.payload import ElementExtra, PointExtra
 from editor.model import DeletePoints, InsertPoints, PointTable, SetValues, SplitSegment
 from editor.model.edits import (
     EditSequence,

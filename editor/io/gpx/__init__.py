@@ -4,7 +4,7 @@
 >>> write_gpx(doc, "ride-cleaned.gpx")  # doctest: +SKIP
 
 Reading keeps everything the model does not interpret in opaque payloads (see
-:mod:`editor.io.payload`), so writing an unedited document gives back the same
+:mod:`editor.model.payload`), so writing an unedited document gives back the same
 content: every element, attribute, namespace declaration and extension, with
 children in GPX 1.1 schema order. What is an error and what a warning is listed
 in :mod:`editor.io.gpx.values` (values), :mod:`editor.io.gpx.parse` (the file as

@@ -23,7 +23,7 @@ from typing import Iterator
 import numpy as np
 
 from .source_texts import SourceTexts, number_texts
-from ..payload import PointExtra
+from ...model.payload import PointExtra
 
 _CHUNK = 50_000
 _EXACT_LIMIT = 2.0 ** 53

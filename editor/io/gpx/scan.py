@@ -47,7 +47,7 @@ from dataclasses import dataclass, field
 from ...model import PointTable
 from .values import PointTexts, ReadNotes, ValueProblem, build_table
 from .xml_parts import escape_text, unescape
-from ..payload import point_extra
+from ...model.payload import point_extra
 
 #: Stands for a cut-out track point in the skeleton (a private-use character).
 PLACEHOLDER = "\ue000"

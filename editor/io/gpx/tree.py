@@ -33,7 +33,7 @@ from .values import PointTexts, ReadNotes, ValueProblem, build_table, segments_o
 from .xml_parts import (CONTAINER_SLOTS, GPX10, GPX11, GPX11_XSD, POINT_FIELDS, POINT_SLOTS, XSI,
                       Fragments, local_name, qualified_attribute)
 from .v10 import V10_METADATA, metadata_from_v10, v10_link
-from ..payload import DocumentExtra, ElementExtra, point_extra
+from ...model.payload import DocumentExtra, ElementExtra, point_extra
 
 _FIELDS = frozenset(POINT_FIELDS)
 _POINT_ATTRIBUTES = frozenset(("lat", "lon"))

@@ -30,7 +30,7 @@ from ...model import Document, PointTable
 from ..errors import TrackFileError
 from .format import format_points
 from .xml_parts import GPX11, bad_xml_character, escape_attribute, escape_text
-from ..payload import DocumentExtra, ElementExtra
+from ...model.payload import DocumentExtra, ElementExtra
 
 _DEFAULT_CREATOR = "Trackwright"
 

@@ -11,7 +11,7 @@ import re
 
 from lxml import etree
 
-from ..payload import TW_NS, TW_PREFIX
+from ...model.payload import TW_NS, TW_PREFIX
 
 GPX11 = "http://www.topografix.com/GPX/1/1"
 GPX10 = "http://www.topografix.com/GPX/1/0"

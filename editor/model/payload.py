@@ -38,6 +38,13 @@ element of our own namespace, ``<tw:inserted how="gap-fill"/>`` where ``tw`` is
 ``urn:x-trackwright:gpx:1``. The marker carries its own namespace declaration
 so it stays valid wherever it is copied; it is recognised in the form
 Trackwright writes it.
+
+When the spike tool removes fixes next to a signal-loss gap (the catch-up after
+a tunnel), the gap it leaves is longer than the signal loss was. The first fix
+kept after it then carries ``<tw:gap-as-recorded seconds="113"/>``: the longest
+time without a fix there as the receiver recorded it, so the gap tool can hold
+its length limit against the signal loss and not against what a tool removed.
+The gap tool drops the marker when it fills the gap.
 """
 from __future__ import annotations
 
@@ -53,6 +60,8 @@ TW_PREFIX = "tw"
 _MARKER_START = f'<{TW_PREFIX}:inserted xmlns:{TW_PREFIX}="{TW_NS}"'
 _MOTION = re.compile(rf'<{TW_PREFIX}:(speed|course) xmlns:{TW_PREFIX}="{re.escape(TW_NS)}">\s*([^<]*?)\s*'
                      rf'</{TW_PREFIX}:\1>')
+_GAP_START = f'<{TW_PREFIX}:gap-as-recorded xmlns:{TW_PREFIX}="{TW_NS}"'
+_GAP_SECONDS = re.compile(re.escape(_GAP_START) + r' seconds="([0-9.eE+-]+)"/>')
 
 
 @dataclass(frozen=True)
@@ -204,3 +213,32 @@ def recorded_motion(payload) -> tuple[float, float]:
             except ValueError:
                 pass
     return found["speed"], found["course"]
+
+
+def _without_gap_record(extensions: str) -> str:
+    return _GAP_SECONDS.sub("", extensions)
+
+
+def gap_as_recorded_s(payload) -> float | None:
+    """Seconds of the signal-loss gap before this fix as recorded, if a tool removed fixes beside it."""
+    extensions = extensions_of(payload)
+    if not extensions or _GAP_START not in extensions:
+        return None
+    found = _GAP_SECONDS.search(extensions)
+    return float(found.group(1)) if found else None
+
+
+def mark_gap_as_recorded(payload, seconds: float):
+    """Return ``payload`` with the "gap as recorded" marker (an existing one is replaced)."""
+    element = etree.Element(f"{{{TW_NS}}}gap-as-recorded", nsmap={TW_PREFIX: TW_NS})
+    element.set("seconds", f"{float(seconds):.3f}".rstrip("0").rstrip("."))
+    kept = _without_gap_record(extensions_of(payload) or "")
+    return _with_extensions(payload, kept + etree.tostring(element, encoding="unicode"))
+
+
+def strip_gap_record(payload):
+    """Return ``payload`` without the "gap as recorded" marker (an emptied ``<extensions>`` is dropped)."""
+    if gap_as_recorded_s(payload) is None:
+        return payload
+    kept = _without_gap_record(extensions_of(payload))
+    return _with_extensions(payload, kept or None)
