@@ -64,6 +64,15 @@ class EditOps:
 
     def delete_selection(self) -> None:
         n = len(self.state.selection)
+        track = self.track()
+        if track is not None and n and n >= len(track.points):
+            buttons = QtWidgets.QMessageBox.StandardButton
+            answer = QtWidgets.QMessageBox.question(
+                self, "Delete every point?",
+                f"The selection holds all {n:,} points of this track. Deleting them leaves an empty track.\n\n"
+                "Delete every point? (Undo brings them back.)", buttons.Yes | buttons.Cancel, buttons.Cancel)
+            if answer != buttons.Yes:
+                return
         self._hand_edit(lambda t: hand_edits.delete_points(t, self.state.track, self.state.selection),
                         f"Delete {n:,} point{'s' if n != 1 else ''}")
 

@@ -120,6 +120,8 @@ class FileOps:
 
     def save_cleaned_copy(self) -> bool:
         """Ask where (default: beside the original with our suffix) and write GPX 1.1 atomically."""
+        if not self.confirm_empty_tracks():
+            return False
         if self.saved_copy_path is not None:
             default = self.saved_copy_path
         elif self.source_path is not None:
@@ -135,6 +137,20 @@ class FileOps:
         if target.suffix.lower() != ".gpx":
             target = target.with_suffix(target.suffix + ".gpx") if target.suffix else target.with_suffix(".gpx")
         return self.write_copy(target)
+
+    def confirm_empty_tracks(self) -> bool:
+        """Before saving a track without points (all deleted): ask, it is rarely meant."""
+        empty = [i for i, t in enumerate(self.doc.tracks) if not len(t.points)]
+        if not empty:
+            return True
+        buttons = QtWidgets.QMessageBox.StandardButton
+        which = ("The track has" if len(self.doc.tracks) == 1 else
+                 f"{len(empty)} of the file's {len(self.doc.tracks)} tracks have")
+        answer = QtWidgets.QMessageBox.question(
+            self, "Save an empty track?",
+            f"{which} no points left. The saved copy will contain an empty track.\n\nSave anyway?",
+            buttons.Yes | buttons.Cancel, buttons.Cancel)
+        return answer == buttons.Yes
 
     def write_copy(self, target: Path) -> bool:
         if not self.confirm_overwrite(target):
@@ -152,12 +168,13 @@ class FileOps:
         self.saved_copy_path = target
         self.undo_stack.setClean()
         self.recovery.discard()
+        self._remember(target)  # Open Recent lists saved copies too
         if self.read_only:
             # The salvaged points now live in a sound file of their own: work on that.
             self.read_only = False
             self.source_path = target
             self.recovery.document_opened(target)
-            self.update_title()
+        self.update_title()  # the title names the copy now being edited
         self.statusBar().showMessage(f"Saved cleaned copy: {target}", 8000)
         return True
 

@@ -66,9 +66,11 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
 
         self.map_view = MapView(self.state, self.palette_)
         self.profile_view = ProfileView(self.state, self.palette_)
-        self.map_pane = ViewPane("Map", self.map_view, "shift+drag selects · drag a dot to move it")
+        self.map_pane = ViewPane("Map", self.map_view, "drag pans · click selects · shift+drag selects a box · "
+                                 "F1: gestures")
         self.profile_pane = ViewPane("Elevation profile", self.profile_view,
-                                     "shift+drag selects a stretch · drag a dot to change its elevation")
+                                     "drag pans · wheel zooms distance, shift+wheel elevation · "
+                                     "shift+drag selects a stretch")
         self.splitter = QtWidgets.QSplitter()
         self.splitter.setObjectName("viewSplitter")
         self.splitter.addWidget(self.map_pane)
@@ -135,6 +137,8 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
 
     def _connect(self) -> None:
         self.undo_stack.cleanChanged.connect(self._clean_changed)
+        self._history_index = (0, None)  # (undo stack index, the step a redo would do)
+        self.undo_stack.indexChanged.connect(self._history_moved)
         self.state.hover_changed.connect(self._hover_changed)
         self.state.selection_changed.connect(self._selection_changed)
         self.state.preview_changed.connect(self._preview_changed)
@@ -191,6 +195,7 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         self.read_only = read_only
         self.discard_preview()
         self.doc.changed.disconnect(self._doc_changed)
+        self._history_index = (0, None)  # clearing the history is not an undo: nothing to report
         self.undo_stack.clear()
         self.doc = doc
         self.revision += 1
@@ -206,6 +211,7 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         self.track_list.set_document(doc, self.state.track)
         self.tracks_dock.setVisible(len(doc.tracks) > 1 or any(t.segment_count > 1 for t in doc.tracks))
         self.map_view.set_waypoints(doc.waypoints.lat, doc.waypoints.lon, doc.waypoints.name)
+        self._show_context()
         self._rebuild_views(fit=True)
         self.update_totals()
         self.undo_stack.setClean()
@@ -241,8 +247,8 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         self._totals_timer.start()
         if track is not None:
             self.track_list.set_document(self.doc, self.state.track)
-        n = len(geometry)
-        self.status_points.setText(f"{n:,} points · {len(self.doc.tracks)} track(s)")
+        n, tracks = len(geometry), len(self.doc.tracks)
+        self.status_points.setText(f"{n:,} point{'' if n == 1 else 's'} · {tracks} track{'' if tracks == 1 else 's'}")
         self.tool_dock.document_changed()
         self.update_actions()
 
@@ -250,13 +256,20 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         """Totals of the shown track from the core's statistics."""
         track = self.track()
         self.totals = track_totals(track) if track is not None else None
+        self.totals_panel.set_track_activity(track, self.geometry_)
         if self.state.preview is None:
             self.totals_panel.set_totals(self.totals)
+
+    def _show_context(self) -> None:
+        """The map draws the file's other tracks and its routes around the shown track."""
+        others = [(t.points.lat, t.points.lon) for i, t in enumerate(self.doc.tracks) if i != self.state.track]
+        self.map_view.set_context(others, [(r.points.lat, r.points.lon) for r in self.doc.routes])
 
     def show_track(self, index: int) -> None:
         if index != self.state.track and 0 <= index < len(self.doc.tracks):
             self.discard_preview()
             self.state.set_track(index)
+            self._show_context()
             self._rebuild_views(fit=True)
 
     def show_segment(self, track_index: int, segment: int) -> None:
@@ -273,6 +286,9 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
 
     def update_title(self) -> None:
         name = self.source_path.name if self.source_path else "untitled"
+        if self.saved_copy_path is not None and self.source_path != self.saved_copy_path:
+            # After "Save cleaned copy" the window works on the copy: say so, and where it came from.
+            name = f"{self.saved_copy_path.name} (cleaned copy of {name})"
         salvaged = " (salvaged, read-only)" if self.read_only else ""
         self.setWindowTitle(f"{name}{salvaged}[*] — {APP_NAME}")
         self.setWindowModified(not self.undo_stack.isClean())
@@ -291,8 +307,21 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
     def _selection_changed(self, rows: np.ndarray) -> None:
         self.tool_dock.selection_changed(len(rows) > 0)
         if len(rows):
-            self.statusBar().showMessage(f"{len(rows):,} point(s) selected", 4000)
+            self.statusBar().showMessage(f"{len(rows):,} point{'' if len(rows) == 1 else 's'} selected", 4000)
         self.update_actions()
+
+    def _history_moved(self, index: int) -> None:
+        """Say what an undo, redo or new step did, replacing any older message ("Applied: …")."""
+        stack = self.undo_stack
+        (previous, next_step) = self._history_index
+        self._history_index = (index, stack.command(index) if index < stack.count() else None)
+        if index == previous:
+            return
+        verb = "Undone" if index < previous else ("Redone" if stack.command(index - 1) is next_step else "Done")
+        track = self.track()
+        n = len(track.points) if track is not None else 0
+        self.statusBar().showMessage(f"{verb}: {stack.text(min(index, previous))} · the track has "
+                                     f"{n:,} point{'' if n == 1 else 's'}", 8000)
 
     def _preview_changed(self, proposal) -> None:
         if proposal is None:
@@ -314,6 +343,13 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         self.settings.utc_offset_h = hours
         self._apply_display_settings()
         self.state.hover_changed.emit(self.state.hover)
+
+    def set_move_mode(self, on: bool) -> None:
+        """Points can be dragged only in this mode; every other drag pans (see Help ▸ Gestures)."""
+        self.map_view.set_move_mode(on)
+        self.profile_view.set_move_mode(on)
+        self.statusBar().showMessage("Move points: press on a point (the pointer shows a hand) and drag it. "
+                                     "Ctrl+M turns it off." if on else "Move points is off: drags pan.", 6000)
 
     def set_profile_against_time(self, against_time: bool) -> None:
         self.settings.profile_against_time = against_time
