@@ -191,7 +191,9 @@ class MapView(LinkedPlot):
 
         self._context["tracks"] = joined(tracks)
         self._context["routes"] = joined(routes)
-        self.route_points_item.setData(*self._context["routes"])
+        rx, ry = self._context["routes"]
+        ok = np.isfinite(rx)
+        self.route_points_item.setData(rx[ok], ry[ok])
         self._refresh_timer.start()
 
     def data_rect(self) -> QtCore.QRectF | None:

@@ -81,6 +81,7 @@ class ProfileView(LinkedPlot):
     # --- configuration ----------------------------------------------------------------------------
     def set_units(self, units: UnitSystem) -> None:
         self.units = units
+        self._choose_x_unit(self.geometry)
         self._update_labels()
         self.refresh_coordinates()
 
@@ -129,7 +130,6 @@ class ProfileView(LinkedPlot):
             from .units import offset_label
             self.plotItem.setLabel("bottom", f"Time ({offset_label(self.utc_offset_h)})", **style)
         else:
-            self._choose_x_unit(self.geometry)
             self.plotItem.setLabel("bottom", f"Distance ({self.x_unit_name})", **style)
 
     # --- wheel ------------------------------------------------------------------------------------
