@@ -71,7 +71,7 @@ def _swatch(palette: Palette, kind: str, size: int = 22) -> QtGui.QPixmap:
 
 ENTRIES = (
     ("track", "Track now"),
-    ("faded", "Changed stretch, before"),
+    ("faded", "Before the change"),
     ("proposal", "Proposal"),
     ("band", "95 % band (±1.96 σ)"),
     ("removed", "Removed point"),

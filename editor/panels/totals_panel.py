@@ -54,9 +54,12 @@ def spike_note(totals: Totals | None, limit_mps: float | None, activity_label: s
         return ""
     if totals.max_speed_mps <= limit_mps:
         return ""
-    return (f"{which}'s max speed {units.speed(totals.max_speed_mps)} is above the "
-            f"{units.speed(limit_mps, 0)} a {activity_label.lower()} plausibly reaches: probably a spike "
-            "(a wrong position fix), not a real speed. The Spikes tool can remove it.")
+    return (f"{which}'s max speed is probably a spike: faster than the {units.speed(limit_mps, 0)} limit "
+            f"for “{activity_label}”.")
+
+
+SPIKE_TIP = ("A wrong position fix makes one step look impossibly fast. The limit is that of the activity the "
+             "track's own speeds suggest; the Spikes tool finds and removes such fixes.")
 
 
 class TotalsPanel(QtWidgets.QWidget):
@@ -168,8 +171,9 @@ class TotalsPanel(QtWidgets.QWidget):
         for label, note in ((now, notes[0]), (after_label, notes[-1] if after is not None else "")):
             if note:
                 label.setText(label.text() + " ⚠")
-            label.setToolTip(note)
+            label.setToolTip(f"{note} {SPIKE_TIP}" if note else "")
             label.setProperty("flagged", bool(note))
         text = " ".join(n for n in notes if n)
         self.spike_label.setText(f"⚠ {text}" if text else "")
+        self.spike_label.setToolTip(SPIKE_TIP if text else "")
         self.spike_label.setVisible(bool(text))

@@ -127,6 +127,9 @@ class LinkedPlot(pg.PlotWidget):
         self.track_item = _curve(pg.mkPen(p.qcolor("track"), width=2))
         # During a preview the stretches the proposal changes are drawn faded; the rest stays as is.
         self.faded_item = _curve(pg.mkPen(p.qcolor("track", 90), width=2))
+        # Selected points as rings, so one selected point shows too (a one-point line draws nothing).
+        self.selected_points_item = PassiveScatter(size=11, pen=pg.mkPen(p.qcolor("ink"), width=1.2),
+                                                   brush=pg.mkBrush(p.qcolor("selection")))
         self.points_item = PassiveScatter(size=5, pen=pg.mkPen(p.qcolor("paper"), width=0.8),
                                               brush=pg.mkBrush(p.qcolor("point")))
         self.proposal_item = _curve(pg.mkPen(p.qcolor("proposal"), width=3))
@@ -139,7 +142,8 @@ class LinkedPlot(pg.PlotWidget):
         self.drag_item = _curve(pg.mkPen(p.qcolor("proposal"), width=2, style=QtCore.Qt.PenStyle.DashLine))
         self.hover_item = PassiveScatter(size=13, pen=pg.mkPen(p.qcolor("hover"), width=2.5),
                                              brush=pg.mkBrush(255, 255, 255, 200))
-        for z, item in enumerate((self.selection_item, self.faded_item, self.track_item, self.points_item,
+        for z, item in enumerate((self.selection_item, self.faded_item, self.track_item,
+                                  self.selected_points_item, self.points_item,
                                   self.proposal_item, self.removed_item, self.inserted_item, self.kept_item,
                                   self.drag_item, self.hover_item)):
             item.setZValue(10 + z)
@@ -276,8 +280,11 @@ class LinkedPlot(pg.PlotWidget):
             self.faded_item.setData([], [])
         if self._selected_mask.any():
             self._lod_line(self.selection_item, np.where(self._selected_mask, x, np.nan), y, self._breaks)
+            chosen = np.flatnonzero(self._selected_mask)
+            self._lod_markers(self.selected_points_item, x[chosen], y[chosen], POINT_LIMIT, thin=False)
         else:
             self.selection_item.setData([], [])
+            self.selected_points_item.setData([], [])
         self._lod_markers(self.points_item, x, y, POINT_LIMIT, thin=False)
         if proposal is not None:
             px, py = self._proposal_xy

@@ -38,6 +38,9 @@ def test_a_click_exactly_on_a_map_point_selects_it_in_both_views(window, qtbot, 
         assert list(window.state.selection) == [row]
         assert np.flatnonzero(m._selected_mask).tolist() == [row]
         assert np.flatnonzero(window.profile_view._selected_mask).tolist() == [row]
+        settle(qtbot)
+        sx, sy = m.selected_points_item.getData()                  # a ring marks the one selected point
+        assert (list(sx), list(sy)) == ([x], [y])
     assert window.undo_stack.count() == 0
 
 
