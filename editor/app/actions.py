@@ -112,8 +112,9 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     m.addAction(a["close"])
     m.addAction(a["quit"])
     m = bar.addMenu("&Edit")
-    for name in ("undo", "redo", None, "move_points", None, "delete", "trim_before", "trim_after", None, "split", "merge", "insert",
-                 "sort_time", None, "select_all", "select_none", "next", "previous", "grow_next", "grow_previous"):
+    for name in ("undo", "redo", None, "move_points", None, "delete", "trim_before", "trim_after", None, "split",
+                 "merge", "insert", "sort_time", None, "select_all", "select_none", "next", "previous", "grow_next",
+                 "grow_previous"):
         m.addSeparator() if name is None else m.addAction(a[name])
     m = bar.addMenu("&View")
     for name in ("fit", "fit_selection", "box", None, "time_axis", "side_by_side"):

@@ -13,7 +13,7 @@ import pyqtgraph as pg
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from ..model.state import EditorState
-from .geometry import ChangeHighlight, TrackGeometry, change_highlight, lod_indices, take_with_breaks
+from .geometry import ChangeHighlight, TrackGeometry, change_highlight, edge_rows, lod_indices, take_with_breaks
 from .style import Palette
 
 #: Measured points are drawn as dots only when at most this many are on screen.
@@ -74,14 +74,6 @@ class GestureViewBox(pg.ViewBox):
         axis = self._owner.wheel_axis(ev.modifiers()) if axis is None else axis
         super().wheelEvent(ev, axis)
         self._owner.wheel_zoomed(axis)
-
-
-def _edges(mask: np.ndarray) -> np.ndarray:
-    """Rows of ``mask`` with an unset neighbour: where a highlighted stretch meets the rest."""
-    inner = mask.copy()
-    inner[1:] &= mask[:-1]
-    inner[:-1] &= mask[1:]
-    return mask & ~inner
 
 
 def _curve(pen) -> pg.PlotCurveItem:
@@ -272,7 +264,7 @@ class LinkedPlot(pg.PlotWidget):
         highlight = self._highlight if proposal is not None else None
         if highlight is not None and len(highlight.original) == len(x):
             # Unchanged stretches as the track; changed ones faded under the proposal.
-            self._lod_line(self.track_item, np.where(highlight.original & ~_edges(highlight.original), np.nan, x),
+            self._lod_line(self.track_item, np.where(highlight.original & ~edge_rows(highlight.original), np.nan, x),
                            y, self._breaks)
             self._lod_line(self.faded_item, np.where(highlight.original, x, np.nan), y, self._breaks)
         else:

@@ -259,6 +259,14 @@ def _grow(mask: np.ndarray) -> np.ndarray:
     return out
 
 
+def edge_rows(mask: np.ndarray) -> np.ndarray:
+    """Rows of ``mask`` with an unset neighbour: where a highlighted stretch meets the rest."""
+    inner = mask.copy()
+    inner[1:] &= mask[:-1]
+    inner[:-1] &= mask[1:]
+    return mask & ~inner
+
+
 def change_highlight(source_rows: np.ndarray, changed: np.ndarray, removed: np.ndarray,
                      n_original: int) -> ChangeHighlight:
     """Rows to highlight for a proposal given by its ``source_rows`` (−1: inserted), ``changed``

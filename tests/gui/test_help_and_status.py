@@ -89,7 +89,9 @@ def test_a_max_speed_above_the_activitys_limit_is_flagged_as_probably_a_spike(wi
     now, _ = window.totals_panel.text_of("Max speed")
     assert now.endswith("⚠")
     note = window.totals_panel.spike_label.text()
-    assert "probably a spike" in note and "90 km/h" in note and "“Ride (bicycle)”" in note
+    assert note == "⚠ Max speed: probably a spike — over 90 km/h"
+    assert "“Ride (bicycle)”" in window.totals_panel.spike_label.toolTip()
+    assert "probably a spike" in window.totals_panel.cells["Max speed"][0].toolTip()
     # The Spikes tool removes it; its proposal is no longer flagged.
     panel = window.tool_dock.panel("despike")
     window.tool_dock.show_panel(panel)
