@@ -18,6 +18,8 @@ from .style import Palette
 
 #: Measured points are drawn as dots only when at most this many are on screen.
 POINT_LIMIT = 1500
+#: ... and only when consecutive points are at least this far apart on screen (median, pixels).
+MIN_POINT_SPACING_PX = 3.0
 #: Marker layers (removed, inserted) thin out to about this many on screen.
 MARKER_LIMIT = 3000
 #: Above this many vertices a line is drawn the cheap way (hairline, or without antialiasing):
@@ -247,6 +249,17 @@ class LinkedPlot(pg.PlotWidget):
         item.setData(x[inside], y[inside])
         return len(inside)
 
+    def _draw_points(self, x: np.ndarray, y: np.ndarray) -> None:
+        """Measured points as dots, only while few enough are on screen and they stand apart:
+        overlapping dots hide the line and make a point impossible to pick."""
+        if self._lod_markers(self.points_item, x, y, POINT_LIMIT, thin=False) <= POINT_LIMIT:
+            px, py = self.points_item.getData()
+            pw, ph = self.view_box.viewPixelSize()
+            with np.errstate(invalid="ignore"):
+                steps = np.hypot(np.diff(px) / pw, np.diff(py) / ph)
+            if len(steps) > 10 and np.nanmedian(steps) < MIN_POINT_SPACING_PX:
+                self.points_item.setData([], [])
+
     def points_visible(self) -> bool:
         """Whether measured points are currently drawn (the view is zoomed in far enough)."""
         return len(self.points_item.data) > 0
@@ -277,7 +290,7 @@ class LinkedPlot(pg.PlotWidget):
         else:
             self.selection_item.setData([], [])
             self.selected_points_item.setData([], [])
-        self._lod_markers(self.points_item, x, y, POINT_LIMIT, thin=False)
+        self._draw_points(x, y)
         if proposal is not None:
             px, py = self._proposal_xy
             breaks = np.zeros(len(px), dtype=bool)

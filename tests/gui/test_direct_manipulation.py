@@ -142,3 +142,18 @@ def test_profile_wheel_zooms_distance_and_elevation_follows_shift_wheel_zooms_el
     (c0, c1), (f0, f1) = prof.view_box.viewRange()
     assert (c0, c1) == pytest.approx((a0, a1))
     assert (f1 - f0) < 0.8 * (b1 - b0)
+
+
+def test_points_are_drawn_only_when_they_stand_apart(window, qtbot):
+    window.set_document(synthetic_ride(1200))
+    prof = window.profile_view
+    window.fit_views()
+    settle(qtbot)
+    # 1,200 points across a few hundred pixels would overlap into a band: no dots.
+    assert not prof.points_visible()
+    d, e = prof._xy[0][600], prof._xy[1][600]
+    wheel(prof.viewport(), widget_pos(prof, d, e), 12)              # zoom in on distance
+    settle(qtbot)
+    assert prof.points_visible()
+    px, _ = prof.points_item.getData()
+    assert np.median(np.diff(px)) / prof.view_box.viewPixelSize()[0] >= 3.0
