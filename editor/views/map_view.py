@@ -7,7 +7,8 @@ from PySide6 import QtCore, QtGui, QtWidgets
 
 from ..geo.projection import LocalProjection
 from ..model.state import EditorState
-from .base import GRAB_PX, LinkedPlot, PassiveScatter
+from .base import GRAB_PX, LinkedPlot
+from .gesture_box import PassiveScatter
 from .geometry import TrackGeometry, lod_indices, take_with_breaks
 from .style import Palette
 from .units import METRIC, UnitSystem
