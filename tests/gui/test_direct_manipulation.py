@@ -157,3 +157,22 @@ def test_points_are_drawn_only_when_they_stand_apart(window, qtbot):
     assert prof.points_visible()
     px, _ = prof.points_item.getData()
     assert np.median(np.diff(px)) / prof.view_box.viewPixelSize()[0] >= 3.0
+
+
+def test_a_plain_drag_inside_a_selected_stretch_pans_and_keeps_the_selection(window, qtbot):
+    window.set_document(synthetic_ride(1500))
+    prof = window.profile_view
+    settle(qtbot)
+    d = prof._xy[0]
+    y = float(np.nanmean(prof._xy[1]))
+    drag(prof.viewport(), [widget_pos(prof, d[300] + f * (d[900] - d[300]), y) for f in np.linspace(0, 1, 6)],
+         Shift)
+    selected = window.state.selection.copy()
+    assert len(selected) > 500
+    before = prof.view_box.viewRange()[0]
+    middle = widget_pos(prof, d[600], y)
+    drag(prof.viewport(), [middle + QtCore.QPoint(-15 * k, 0) for k in range(6)])
+    after = prof.view_box.viewRange()[0]
+    assert after[0] > before[0]                                     # dragged left: the view moved right
+    assert np.array_equal(window.state.selection, selected)        # the stretch did not move
+    assert window.undo_stack.count() == 0
