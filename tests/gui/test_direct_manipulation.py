@@ -176,3 +176,8 @@ def test_a_plain_drag_inside_a_selected_stretch_pans_and_keeps_the_selection(win
     assert after[0] > before[0]                                     # dragged left: the view moved right
     assert np.array_equal(window.state.selection, selected)        # the stretch did not move
     assert window.undo_stack.count() == 0
+    # Its edge still adjusts it: drag the left edge further left.
+    left_edge = widget_pos(prof, prof.region.getRegion()[0], y)
+    drag(prof.viewport(), [left_edge + QtCore.QPoint(-8 * k, 0) for k in range(6)])
+    grown = window.state.selection
+    assert grown[0] < selected[0] and grown[-1] == selected[-1]
