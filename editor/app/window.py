@@ -256,7 +256,7 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         """Totals of the shown track from the core's statistics."""
         track = self.track()
         self.totals = track_totals(track) if track is not None else None
-        self.totals_panel.set_track_activity(track, self.geometry_)
+        self.totals_panel.set_track_activity(track, self.geometry_, self.projection)
         if self.state.preview is None:
             self.totals_panel.set_totals(self.totals)
 

@@ -122,11 +122,11 @@ class TotalsPanel(QtWidgets.QWidget):
         self._limit_mps, self._activity_label = limit_mps, activity_label
         self._redraw()
 
-    def set_track_activity(self, track, geometry) -> None:
+    def set_track_activity(self, track, geometry, projection) -> None:
         """Flag a max speed above what the activity that the shown track's own speeds suggest can reach.
 
         ``geometry``: the views' :class:`~editor.views.geometry.TrackGeometry` of ``track`` (its
-        planar metres are reused, nothing is projected again).
+        planar metres in ``projection`` are reused, nothing is projected again).
         """
         from ..processing.cleaning_base import PlanarTrack, activity_for
 
@@ -134,7 +134,7 @@ class TotalsPanel(QtWidgets.QWidget):
             self.set_speed_limit(None)
             return
         plane = PlanarTrack(geometry.x_m, geometry.y_m, geometry.ele_m, geometry.time_s, track.segment_bounds(),
-                            None)
+                            projection)
         activity = activity_for(plane, "auto")
         self.set_speed_limit(activity.max_speed_mps, activity.label)
 

@@ -247,7 +247,7 @@ class LinkedPlot(pg.PlotWidget):
             self.selection_item.setData([], [])
             self.selected_points_item.setData([], [])
         self._draw_points(x, y)
-        if proposal is not None:
+        if proposal is not None and self._proposal_xy is not None:
             px, py = self._proposal_xy
             breaks = np.zeros(len(px), dtype=bool)
             ends = np.append(proposal.segment_starts[1:], len(px)) - 1
