@@ -144,6 +144,9 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
         self.state.preview_changed.connect(self._preview_changed)
         self.profile_view.readout_changed.connect(self.profile_pane.set_readout)
         self.map_view.point_dragged.connect(self.move_point)
+        for view in (self.map_view, self.profile_view):
+            view.move_status.connect(lambda text: self.statusBar().showMessage(text) if text
+                                     else self.statusBar().clearMessage())
         self.profile_view.elevation_dragged.connect(self.set_point_elevation)
         self.track_list.track_chosen.connect(self.show_track)
         self.track_list.segment_chosen.connect(self.show_segment)

@@ -49,6 +49,8 @@ class LinkedPlot(pg.PlotWidget):
     """
 
     lod_columns = False
+    #: While a point is being moved: what is happening, for the status bar ("" when it ends).
+    move_status = QtCore.Signal(str)
 
     def __init__(self, state: EditorState, palette: Palette, parent=None, **kwargs) -> None:
         self.view_box = GestureViewBox(self)

@@ -245,6 +245,7 @@ class MapView(LinkedPlot):
             if row not in self.state.selection:
                 self.state.set_selection([row])
             self.update_cursor(pos, moving=True)
+            self.move_status.emit(f"Moving point {row + 1:,}: release to put it there")
             return "point"
         return None  # a plain drag pans
 
@@ -283,6 +284,7 @@ class MapView(LinkedPlot):
             row, self._drag_row = self._drag_row, None
             self.drag_item.setData([], [])
             self.update_cursor(pos)
+            self.move_status.emit("")
             if row is not None and (pos.x(), pos.y()) != (self._xy[0][row], self._xy[1][row]):
                 self.point_dragged.emit(row, float(pos.x()), float(pos.y()))
             self._on_hover(self.state.hover)

@@ -325,6 +325,7 @@ class ProfileView(LinkedPlot):
             self._drag_row = row
             self.state.set_hover(row)
             self.update_cursor(pos, moving=True)
+            self.move_status.emit(f"Changing the elevation of point {row + 1:,}: release to keep it")
             return "point"
         return None  # a plain drag pans
 
@@ -356,6 +357,7 @@ class ProfileView(LinkedPlot):
             row, self._drag_row = self._drag_row, None
             self.drag_item.setData([], [])
             self.update_cursor(pos)
+            self.move_status.emit("")
             if row is not None:
                 ele_m = float(pos.y()) * self.units.short_m
                 if ele_m != self.geometry.ele_m[row]:

@@ -104,10 +104,12 @@ def test_move_mode_shows_a_grab_cursor_then_moves_the_point_as_one_step(window, 
     assert m.cursor().shape() == Cursor.OpenHandCursor           # over the point: a hand says "grab me"
     drag(vp, [widget_pos(m, x + 3 * k, y + 2 * k) for k in range(8)], finish=False)
     assert m.cursor().shape() == Cursor.ClosedHandCursor         # visibly moving
+    assert window.statusBar().currentMessage() == "Moving point 322: release to put it there"
     assert len(m.drag_item.getData()[0]) == 3                      # rubber band to both neighbours
     assert window.undo_stack.count() == 0
     QTest.mouseRelease(vp, Left, NoMod, widget_pos(m, x + 21, y + 14))
     assert window.undo_stack.count() == 1 and window.undo_stack.text(0).startswith("Move point")
+    assert window.statusBar().currentMessage().startswith("Done: Move point 322")
     moved = doc.tracks[0].points
     others = np.arange(len(moved)) != row
     assert moved.lat[row] != original.lat[row] and np.array_equal(moved.lat[others], original.lat[others])
