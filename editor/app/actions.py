@@ -76,6 +76,9 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     a["fit_selection"] = _action(w, "Zoom to &selection", w.fit_selection, "Ctrl+Shift+0")
     a["box"] = _action(w, "&Box select on the map", lambda on: setattr(w.map_view, "box_mode", on), "Ctrl+B",
                        "box", "Dragging on the map selects a box instead of panning", checkable=True)
+    a["move_points"] = _action(w, "&Move points", w.set_move_mode, "Ctrl+M", "move_points",
+                               "Move points: press on a point (the pointer shows a hand) and drag it; "
+                               "other drags still pan", checkable=True)
     a["time_axis"] = _action(w, "Profile against &time", w.set_profile_against_time, "Ctrl+T",
                              checkable=True)
     a["time_axis"].setChecked(w.settings.profile_against_time)
@@ -95,12 +98,14 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     a["discard"] = _action(w, "&Discard proposal", w.previews.discard_preview, "Escape", "discard")
     a["estimate"] = _action(w, "&Estimate smoothing strengths", lambda: _estimate(w), "Ctrl+Shift+M")
     a["about"] = _action(w, "&About Trackwright", w.files.show_about)
+    a["gestures"] = _action(w, "&Gestures and shortcuts", lambda: show_gestures(w), Key.StandardKey.HelpContents)
 
     bar = w.menuBar()
     m = bar.addMenu("&File")
     for name in ("open",):
         m.addAction(a[name])
     w.recent_menu = m.addMenu("Open &recent")
+    w.recent_menu.setToolTipsVisible(True)  # each entry's tooltip is the file's full path
     m.addAction(a["demo"])
     m.addSeparator()
     for name in ("save", "geojson", "csv"):
@@ -109,8 +114,9 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     m.addAction(a["close"])
     m.addAction(a["quit"])
     m = bar.addMenu("&Edit")
-    for name in ("undo", "redo", None, "delete", "trim_before", "trim_after", None, "split", "merge", "insert",
-                 "sort_time", None, "select_all", "select_none", "next", "previous", "grow_next", "grow_previous"):
+    for name in ("undo", "redo", None, "move_points", None, "delete", "trim_before", "trim_after", None, "split",
+                 "merge", "insert", "sort_time", None, "select_all", "select_none", "next", "previous", "grow_next",
+                 "grow_previous"):
         m.addSeparator() if name is None else m.addAction(a[name])
     m = bar.addMenu("&View")
     for name in ("fit", "fit_selection", "box", None, "time_axis", "side_by_side"):
@@ -122,7 +128,7 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     times.addAction(a["utc"])
     times.addAction(a["offset"])
     m.addSeparator()
-    for dock in (w.tools_dock, w.totals_dock, w.history_dock, w.tracks_dock):
+    for dock in (w.tools_dock, w.totals_dock, w.history_dock, w.legend_dock, w.tracks_dock):
         m.addAction(dock.toggleViewAction())
     m = bar.addMenu("&Tools")
     for i, panel in enumerate(w.tool_dock.panels):
@@ -133,16 +139,29 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     for name in ("estimate", "apply", "discard"):
         m.addAction(a[name])
     m = bar.addMenu("&Help")
+    m.addAction(a["gestures"])
     m.addAction(a["about"])
 
     tb = w.addToolBar("Main")
     tb.setObjectName("mainToolbar")
     tb.setIconSize(QtCore.QSize(22, 22))
     for name in ("open", "save", None, "undo", "redo", None, "delete", "trim_before", "trim_after", "split",
-                 "merge", "insert", None, "box", "fit"):
+                 "merge", "insert", None, "box", "move_points", "fit"):
         tb.addSeparator() if name is None else tb.addAction(a[name])
     w.files.refresh_recent_menu()
     return a
+
+
+def show_gestures(w) -> None:
+    """Help ▸ Gestures and shortcuts: one window, raised again when asked twice."""
+    from ..panels.help_page import GesturesPage
+
+    page = getattr(w, "gestures_page", None)
+    if page is None:
+        page = w.gestures_page = GesturesPage(w.actions_, w)
+    page.show()
+    page.raise_()
+    page.activateWindow()
 
 
 def _show_tool(w, panel) -> None:

@@ -42,6 +42,8 @@ class DisplayController(QtCore.QObject):
         state.selection_changed.connect(self._selection_changed)
         state.preview_changed.connect(self._preview_changed)
         window.undo_stack.cleanChanged.connect(lambda _clean: self.update_title())
+        self._history_index: tuple[int, Any] = (0, None)  # (undo stack index, the step a redo would do)
+        window.undo_stack.indexChanged.connect(self._history_moved)
 
     # --- the document -----------------------------------------------------------------------------
     def set_document(self, doc: Document, path: str | Path | None = None, read_only: bool = False) -> None:
@@ -53,6 +55,7 @@ class DisplayController(QtCore.QObject):
         window, session, state = self.window, self.session, self.session.state
         window.previews.discard_preview()
         session.doc.changed.disconnect(self._doc_changed)
+        self._history_index = (0, None)  # clearing the history is not an undo: nothing to report
         window.undo_stack.clear()
         session.replace_document(doc, path, read_only)
         window.projection = document_projection(doc)
@@ -65,6 +68,7 @@ class DisplayController(QtCore.QObject):
         window.track_list.set_document(doc, state.track)
         window.tracks_dock.setVisible(len(doc.tracks) > 1 or any(t.segment_count > 1 for t in doc.tracks))
         window.map_view.set_waypoints(doc.waypoints.lat, doc.waypoints.lon, doc.waypoints.name)
+        self._show_context()
         self.rebuild_views(fit=True)
         self.update_totals()
         window.undo_stack.setClean()
@@ -109,7 +113,8 @@ class DisplayController(QtCore.QObject):
         self._totals_timer.start()
         if track is not None:
             window.track_list.set_document(session.doc, state.track)
-        window.status_points.setText(f"{len(geometry):,} points · {len(session.doc.tracks)} track(s)")
+        n, tracks = len(geometry), len(session.doc.tracks)
+        window.status_points.setText(f"{n:,} point{'' if n == 1 else 's'} · {tracks} track{'' if tracks == 1 else 's'}")
         window.tool_dock.document_changed()
         self.update_actions()
 
@@ -121,14 +126,22 @@ class DisplayController(QtCore.QObject):
             self.totals = hint.totals  # the applied proposal's "after" totals are this track's
         else:
             self.totals = track_totals(track) if track is not None else None
+        self.window.totals_panel.set_track_activity(track, self.geometry, self.window.projection)
         if self.session.state.preview is None:
             self.window.totals_panel.set_totals(self.totals)
+
+    def _show_context(self) -> None:
+        """The map draws the file's other tracks and its routes around the shown track."""
+        doc, shown = self.session.doc, self.session.state.track
+        others = [(t.points.lat, t.points.lon) for i, t in enumerate(doc.tracks) if i != shown]
+        self.window.map_view.set_context(others, [(r.points.lat, r.points.lon) for r in doc.routes])
 
     def show_track(self, index: int) -> None:
         session = self.session
         if index != session.state.track and 0 <= index < len(session.doc.tracks):
             self.window.previews.discard_preview()
             session.state.set_track(index)
+            self._show_context()
             self.rebuild_views(fit=True)
 
     def show_segment(self, track_index: int, segment: int) -> None:
@@ -140,6 +153,9 @@ class DisplayController(QtCore.QObject):
     def update_title(self) -> None:
         session, window = self.session, self.window
         name = session.source_path.name if session.source_path else "untitled"
+        if session.saved_copy_path is not None and session.source_path != session.saved_copy_path:
+            # After "Save cleaned copy" the window works on the copy: say so, and where it came from.
+            name = f"{session.saved_copy_path.name} (cleaned copy of {name})"
         salvaged = " (salvaged, read-only)" if session.read_only else ""
         window.setWindowTitle(f"{name}{salvaged}[*] — {APP_NAME}")
         window.setWindowModified(not window.undo_stack.isClean())
@@ -173,8 +189,26 @@ class DisplayController(QtCore.QObject):
     def _selection_changed(self, rows: np.ndarray) -> None:
         self.window.tool_dock.selection_changed(len(rows) > 0)
         if len(rows):
-            self.window.statusBar().showMessage(f"{len(rows):,} point(s) selected", 4000)
+            self.window.statusBar().showMessage(f"{len(rows):,} point{'' if len(rows) == 1 else 's'} selected", 4000)
         self.update_actions()
+
+    def _history_moved(self, index: int) -> None:
+        """Say what an undo, redo or new step did, replacing any older message ("Applied: …")."""
+        if self.window.closing:
+            return
+        stack = self.window.undo_stack
+        (previous, next_step) = self._history_index
+        try:
+            self._history_index = (index, stack.command(index) if index < stack.count() else None)
+        except RuntimeError:  # the stack announces its own clearing while Qt destroys it
+            return
+        if index == previous:
+            return
+        verb = "Undone" if index < previous else ("Redone" if stack.command(index - 1) is next_step else "Done")
+        track = self.session.track()
+        n = len(track.points) if track is not None else 0
+        self.window.statusBar().showMessage(f"{verb}: {stack.text(min(index, previous))} · the track has "
+                                            f"{n:,} point{'' if n == 1 else 's'}", 8000)
 
     def _preview_changed(self, proposal: Any) -> None:
         if proposal is None:

@@ -73,8 +73,18 @@ class EditController:
                         f"Change elevation of point {row + 1:,}")
 
     def delete_selection(self) -> None:
-        n = len(self.session.state.selection)
-        self._hand_edit(lambda t: hand_edits.delete_points(t, self.session.state.track, self.session.state.selection),
+        state = self.session.state
+        n = len(state.selection)
+        track = self.session.track()
+        if track is not None and n and n >= len(track.points):
+            buttons = QtWidgets.QMessageBox.StandardButton
+            answer = dialogs.ask(
+                self.window, "Delete every point?",
+                f"The selection holds all {n:,} points of this track. Deleting them leaves an empty track.\n\n"
+                "Delete every point? (Undo brings them back.)", buttons.Yes | buttons.Cancel, buttons.Cancel)
+            if answer != buttons.Yes:
+                return
+        self._hand_edit(lambda t: hand_edits.delete_points(t, state.track, state.selection),
                         f"Delete {n:,} point{'s' if n != 1 else ''}")
 
     def trim_before(self) -> None:

@@ -153,6 +153,8 @@ class FileController:
 
     def save_cleaned_copy(self) -> bool:
         """Ask where (default: beside the original with our suffix) and write GPX 1.1 atomically."""
+        if not self.confirm_empty_tracks():
+            return False
         default = self.session.default_copy_path(Path.home())
         path, _ = QtWidgets.QFileDialog.getSaveFileName(
             self.window, SAVE_TITLE, str(default), GPX_FILTER,
@@ -163,6 +165,20 @@ class FileController:
         if target.suffix.lower() != ".gpx":
             target = target.with_suffix(target.suffix + ".gpx") if target.suffix else target.with_suffix(".gpx")
         return self.write_copy(target)
+
+    def confirm_empty_tracks(self) -> bool:
+        """Before saving a track without points (all deleted): ask, it is rarely meant."""
+        tracks = self.session.doc.tracks
+        empty = [i for i, t in enumerate(tracks) if not len(t.points)]
+        if not empty:
+            return True
+        buttons = QtWidgets.QMessageBox.StandardButton
+        which = "The track has" if len(tracks) == 1 else f"{len(empty)} of the file's {len(tracks)} tracks have"
+        answer = dialogs.ask(
+            self.window, "Save an empty track?",
+            f"{which} no points left. The saved copy will contain an empty track.\n\nSave anyway?",
+            buttons.Yes | buttons.Cancel, buttons.Cancel)
+        return answer == buttons.Yes
 
     def write_copy(self, target: Path) -> bool:
         """Write the document to ``target`` as GPX 1.1 (asking before replacing a file)."""
@@ -190,10 +206,11 @@ class FileController:
             return True
         window.undo_stack.setClean()
         window.recovery.saved(target)
+        self._remember(target)  # Open Recent lists saved copies too
         if self.session.saved_copy(target):
             # The salvaged points now live in a sound file of their own: work on that.
             window.recovery.document_opened(target)
-            window.display.update_title()
+        window.display.update_title()  # the title names the copy now being edited
         window.statusBar().showMessage(f"Saved cleaned copy: {target}", 8000)
         return True
 

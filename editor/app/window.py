@@ -33,8 +33,9 @@ from .workers import WorkerPool
 
 #: The linked views, first (top or left) to last: pane title, view class, hint. A third view is one more line.
 VIEW_PANES: tuple[tuple[str, type[LinkedPlot], str], ...] = (
-    ("Map", MapView, "shift+drag selects · drag a dot to move it"),
-    ("Elevation profile", ProfileView, "shift+drag selects a stretch · drag a dot to change its elevation"),
+    ("Map", MapView, "drag pans · click selects · shift+drag selects a box · F1: gestures"),
+    ("Elevation profile", ProfileView, "drag pans · wheel zooms distance, shift+wheel elevation · "
+                                       "shift+drag selects a stretch"),
 )
 
 
@@ -143,6 +144,9 @@ class MainWindow(QtWidgets.QMainWindow):
         self.profile_view.readout_changed.connect(self.profile_pane.set_readout)
         self.map_view.point_dragged.connect(self.editing.move_point)
         self.profile_view.elevation_dragged.connect(self.editing.set_point_elevation)
+        for view in self.views:
+            view.move_status.connect(lambda text: self.statusBar().showMessage(text) if text
+                                     else self.statusBar().clearMessage())
         self.track_list.track_chosen.connect(self.display.show_track)
         self.track_list.segment_chosen.connect(self.display.show_segment)
         self.splitter.splitterMoved.connect(lambda *_: self._save_layout())
@@ -189,6 +193,13 @@ class MainWindow(QtWidgets.QMainWindow):
         self.settings.utc_offset_h = hours
         self._apply_display_settings()
         self.state.hover_changed.emit(self.state.hover)
+
+    def set_move_mode(self, on: bool) -> None:
+        """Points can be dragged only in this mode; every other drag pans (see Help ▸ Gestures)."""
+        for view in self.views:
+            view.set_move_mode(on)
+        self.statusBar().showMessage("Move points: press on a point (the pointer shows a hand) and drag it. "
+                                     "Ctrl+M turns it off." if on else "Move points is off: drags pan.", 6000)
 
     def set_profile_against_time(self, against_time: bool) -> None:
         self.settings.profile_against_time = against_time

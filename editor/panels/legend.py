@@ -24,6 +24,17 @@ def _swatch(palette: Palette, kind: str, size: int = 22) -> QtGui.QPixmap:
                   "proposal": palette.qcolor("proposal")}[kind]
         p.setPen(QtGui.QPen(colour, 3 if kind == "proposal" else 2))
         p.drawLine(line)
+    elif kind in ("other", "route"):
+        pen = QtGui.QPen(palette.qcolor("muted", 170), 1.5) if kind == "other" else \
+            QtGui.QPen(palette.qcolor("waypoint"), 2, QtCore.Qt.PenStyle.DashLine)
+        p.setPen(pen)
+        p.drawLine(line)
+    elif kind == "kept":
+        p.setPen(QtGui.QPen(palette.qcolor("proposal"), 3))
+        p.drawLine(line)
+        p.setPen(QtGui.QPen(palette.qcolor("paper"), 0.8))
+        p.setBrush(palette.qcolor("proposal"))
+        p.drawEllipse(QtCore.QPointF(size, mid), 3.5, 3.5)
     elif kind == "band":
         p.fillRect(QtCore.QRectF(3, mid - 6, size * 2 - 6, 12), palette.qcolor("band", 60))
         p.setPen(QtGui.QPen(palette.qcolor("proposal"), 3))
@@ -60,15 +71,18 @@ def _swatch(palette: Palette, kind: str, size: int = 22) -> QtGui.QPixmap:
 
 ENTRIES = (
     ("track", "Track now"),
-    ("faded", "Track (faded)"),
+    ("faded", "Before the change"),
     ("proposal", "Proposal"),
     ("band", "95 % band (±1.96 σ)"),
     ("removed", "Removed point"),
     ("inserted", "Added point"),
+    ("kept", "Kept point (simplify)"),
     ("selection", "Selection"),
     ("start", "Segment start"),
     ("end", "Segment end"),
     ("waypoint", "Waypoint"),
+    ("other", "Other track in the file"),
+    ("route", "Route"),
 )
 
 

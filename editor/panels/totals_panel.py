@@ -49,6 +49,21 @@ def _change(before: Totals, after: Totals, label: str, units: UnitSystem) -> str
     return ("+" if diff > 0 else "−") + text + pct
 
 
+def spike_note(totals: Totals | None, limit_mps: float | None, activity_label: str, units: UnitSystem,
+               which: str = "The track") -> str:
+    """A rider's note when the max speed is above what the activity plausibly reaches, else ``""``."""
+    if totals is None or limit_mps is None or not math.isfinite(totals.max_speed_mps):
+        return ""
+    if totals.max_speed_mps <= limit_mps:
+        return ""
+    return (f"{which}'s max speed is probably a spike: faster than the {units.speed(limit_mps, 0)} limit "
+            f"for “{activity_label}”.")
+
+
+SPIKE_TIP = ("A wrong position fix makes one step look impossibly fast. The limit is that of the activity the "
+             "track's own speeds suggest; the Spikes tool finds and removes such fixes.")
+
+
 class TotalsPanel(QtWidgets.QWidget):
     """A small table: the track's totals, and when previewing, the proposal's and the change."""
 
@@ -58,6 +73,8 @@ class TotalsPanel(QtWidgets.QWidget):
         self.units = METRIC
         self._before: Totals | None = None
         self._after: Totals | None = None
+        self._limit_mps: float | None = None
+        self._activity_label = ""
         grid = QtWidgets.QGridLayout(self)
         grid.setContentsMargins(8, 6, 8, 6)
         grid.setHorizontalSpacing(12)
@@ -85,6 +102,10 @@ class TotalsPanel(QtWidgets.QWidget):
                 grid.addWidget(label, row, col)
             grid.addWidget(name_label, row, 0)
             self.cells[name] = (now, after, change)
+        self.spike_label = QtWidgets.QLabel("")
+        self.spike_label.setObjectName("spikeNote")
+        self.spike_label.hide()
+        grid.addWidget(self.spike_label, len(ROWS) + 1, 0, 1, 4)
         grid.setColumnStretch(0, 1)
         grid.setRowStretch(len(ROWS) + 2, 1)
         self._show_after(False)
@@ -102,6 +123,27 @@ class TotalsPanel(QtWidgets.QWidget):
     def set_units(self, units: UnitSystem) -> None:
         self.units = units
         self._redraw()
+
+    def set_speed_limit(self, limit_mps: float | None, activity_label: str = "") -> None:
+        """The highest plausible speed of the track's activity; a max speed above it is flagged."""
+        self._limit_mps, self._activity_label = limit_mps, activity_label
+        self._redraw()
+
+    def set_track_activity(self, track, geometry, projection) -> None:
+        """Flag a max speed above what the activity that the shown track's own speeds suggest can reach.
+
+        ``geometry``: the views' :class:`~editor.views.geometry.TrackGeometry` of ``track`` (its
+        planar metres in ``projection`` are reused, nothing is projected again).
+        """
+        from ..processing.cleaning_base import PlanarTrack, activity_for
+
+        if track is None or len(geometry) != len(track.points) or not geometry.has_time:
+            self.set_speed_limit(None)
+            return
+        plane = PlanarTrack(geometry.x_m, geometry.y_m, geometry.ele_m, geometry.time_s, track.segment_bounds(),
+                            projection)
+        activity = activity_for(plane, "auto")
+        self.set_speed_limit(activity.max_speed_mps, activity.label)
 
     def set_totals(self, before: Totals | None, after: Totals | None = None) -> None:
         """Show ``before`` (the document) and, when given, ``after`` (the previewed proposal)."""
@@ -125,3 +167,22 @@ class TotalsPanel(QtWidgets.QWidget):
             else:
                 after_label.setText("")
                 change.setText("")
+        self._flag_speed(before, after)
+
+    def _flag_speed(self, before: Totals | None, after: Totals | None) -> None:
+        notes = [spike_note(before, self._limit_mps, self._activity_label, self.units)]
+        if after is not None:
+            notes.append(spike_note(after, self._limit_mps, self._activity_label, self.units, "The proposal"))
+        now, after_label, _ = self.cells["Max speed"]
+        for label, note in ((now, notes[0]), (after_label, notes[-1] if after is not None else "")):
+            if note:
+                label.setText(label.text() + " ⚠")
+            label.setToolTip(f"{note} {SPIKE_TIP}" if note else "")
+            label.setProperty("flagged", bool(note))
+        text = " ".join(n for n in notes if n)
+        # One short line fits the dock at any size; the whole explanation is the tooltip.
+        short = ("⚠ Max speed: probably a spike" + ("" if notes[0] else " (proposal)")
+                 + (f" — over {self.units.speed(self._limit_mps, 0)}" if self._limit_mps else ""))
+        self.spike_label.setText(short if text else "")
+        self.spike_label.setToolTip(f"{text} {SPIKE_TIP}" if text else "")
+        self.spike_label.setVisible(bool(text))

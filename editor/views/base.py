@@ -13,50 +13,25 @@ import pyqtgraph as pg
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from ..model.state import EditorState
-from .geometry import TrackGeometry, lod_indices, take_with_breaks
+from .gesture_box import GestureViewBox, PassiveScatter
+from .geometry import ChangeHighlight, TrackGeometry, change_highlight, edge_rows, lod_indices, take_with_breaks
 from .style import Palette
 
 #: Measured points are drawn as dots only when at most this many are on screen.
 POINT_LIMIT = 1500
+#: ... and only when consecutive points are at least this far apart on screen (median, pixels).
+MIN_POINT_SPACING_PX = 3.0
 #: Marker layers (removed, inserted) thin out to about this many on screen.
 MARKER_LIMIT = 3000
 #: Above this many vertices a line is drawn the cheap way (hairline, or without antialiasing):
 #: Qt strokes wide antialiased paths of thousands of short segments several times slower.
 DENSE_VERTICES = 3000
-#: Grab radius for points, in screen pixels.
+#: Tools whose proposals show their kept points instead of removal crosses (simplification
+#: removes thousands of points; crosses would hide the result).
+SHOW_KEPT_TOOLS = ("simplify",)
+#: Pick radius for points, in screen pixels: a click this close to a point selects it, and in
+#: "Move points" mode a press this close grabs it (the pointer shows a hand first).
 GRAB_PX = 9.0
-
-
-class GestureViewBox(pg.ViewBox):
-    """A ViewBox that lets its owner claim left-button drags and clicks before panning."""
-
-    def __init__(self, owner: "LinkedPlot", **kwargs) -> None:
-        super().__init__(**kwargs)
-        self._owner = owner
-        self._gesture: str | None = None
-
-    def mouseDragEvent(self, ev, axis=None):  # noqa: N802 (Qt override)
-        if axis is None and ev.button() == QtCore.Qt.MouseButton.LeftButton:
-            if ev.isStart():
-                start = self.mapToView(ev.buttonDownPos())
-                self._gesture = self._owner.gesture_started(start, ev.modifiers())
-            if self._gesture is not None:
-                ev.accept()
-                pos = self.mapToView(ev.pos())
-                if ev.isFinish():
-                    gesture, self._gesture = self._gesture, None
-                    self._owner.gesture_finished(gesture, pos)
-                else:
-                    self._owner.gesture_moved(self._gesture, pos)
-                return
-        super().mouseDragEvent(ev, axis)
-
-    def mouseClickEvent(self, ev):  # noqa: N802 (Qt override)
-        if ev.button() == QtCore.Qt.MouseButton.LeftButton:
-            ev.accept()
-            self._owner.clicked(self.mapToView(ev.pos()), ev.modifiers())
-            return
-        super().mouseClickEvent(ev)
 
 
 def _curve(pen) -> pg.PlotCurveItem:
@@ -74,6 +49,8 @@ class LinkedPlot(pg.PlotWidget):
     """
 
     lod_columns = False
+    #: While a point is being moved: what is happening, for the status bar ("" when it ends).
+    move_status = QtCore.Signal(str)
 
     def __init__(self, state: EditorState, palette: Palette, parent=None, **kwargs) -> None:
         self.view_box = GestureViewBox(self)
@@ -85,6 +62,8 @@ class LinkedPlot(pg.PlotWidget):
         self._proposal_xy: tuple[np.ndarray, np.ndarray] | None = None
         self._selected_mask = np.zeros(0, dtype=bool)
         self._breaks = np.zeros(0, dtype=bool)
+        self._highlight: ChangeHighlight | None = None
+        self.move_mode = False
         self.plotItem.hideButtons()
         self.plotItem.setMenuEnabled(False)
         for axis in ("left", "bottom"):
@@ -98,18 +77,27 @@ class LinkedPlot(pg.PlotWidget):
         halo.setJoinStyle(QtCore.Qt.PenJoinStyle.RoundJoin)
         self.selection_item = _curve(halo)
         self.track_item = _curve(pg.mkPen(p.qcolor("track"), width=2))
-        self.points_item = pg.ScatterPlotItem(size=5, pen=pg.mkPen(p.qcolor("paper"), width=0.8),
+        # During a preview the stretches the proposal changes are drawn faded; the rest stays as is.
+        self.faded_item = _curve(pg.mkPen(p.qcolor("track", 90), width=2))
+        # Selected points as rings, so one selected point shows too (a one-point line draws nothing).
+        self.selected_points_item = PassiveScatter(size=11, pen=pg.mkPen(p.qcolor("ink"), width=1.2),
+                                                   brush=pg.mkBrush(p.qcolor("selection")))
+        self.points_item = PassiveScatter(size=5, pen=pg.mkPen(p.qcolor("paper"), width=0.8),
                                               brush=pg.mkBrush(p.qcolor("point")))
         self.proposal_item = _curve(pg.mkPen(p.qcolor("proposal"), width=3))
-        self.removed_item = pg.ScatterPlotItem(symbol="x", size=9, pen=pg.mkPen(p.qcolor("removed"), width=1.5),
+        self.removed_item = PassiveScatter(symbol="x", size=9, pen=pg.mkPen(p.qcolor("removed"), width=1.5),
                                                brush=pg.mkBrush(p.qcolor("removed")))
-        self.inserted_item = pg.ScatterPlotItem(symbol="d", size=9, pen=pg.mkPen(p.qcolor("paper"), width=1),
+        self.inserted_item = PassiveScatter(symbol="d", size=9, pen=pg.mkPen(p.qcolor("paper"), width=1),
                                                 brush=pg.mkBrush(p.qcolor("inserted")))
+        self.kept_item = PassiveScatter(size=6, pen=pg.mkPen(p.qcolor("paper"), width=0.8),
+                                        brush=pg.mkBrush(p.qcolor("proposal")))
         self.drag_item = _curve(pg.mkPen(p.qcolor("proposal"), width=2, style=QtCore.Qt.PenStyle.DashLine))
-        self.hover_item = pg.ScatterPlotItem(size=13, pen=pg.mkPen(p.qcolor("hover"), width=2.5),
+        self.hover_item = PassiveScatter(size=13, pen=pg.mkPen(p.qcolor("hover"), width=2.5),
                                              brush=pg.mkBrush(255, 255, 255, 200))
-        for z, item in enumerate((self.selection_item, self.track_item, self.points_item, self.proposal_item,
-                                  self.removed_item, self.inserted_item, self.drag_item, self.hover_item)):
+        for z, item in enumerate((self.selection_item, self.faded_item, self.track_item,
+                                  self.selected_points_item, self.points_item,
+                                  self.proposal_item, self.removed_item, self.inserted_item, self.kept_item,
+                                  self.drag_item, self.hover_item)):
             item.setZValue(10 + z)
             self.view_box.addItem(item, ignoreBounds=True)
         self._refresh_timer = QtCore.QTimer(self, singleShot=True, interval=0)
@@ -219,35 +207,68 @@ class LinkedPlot(pg.PlotWidget):
         item.setData(x[inside], y[inside])
         return len(inside)
 
+    def _draw_points(self, x: np.ndarray, y: np.ndarray) -> None:
+        """Measured points as dots, only while few enough are on screen and they stand apart:
+        overlapping dots hide the line and make a point impossible to pick."""
+        if self._lod_markers(self.points_item, x, y, POINT_LIMIT, thin=False) <= POINT_LIMIT:
+            px, py = self.points_item.getData()
+            pw, ph = self.view_box.viewPixelSize()
+            with np.errstate(invalid="ignore"):
+                steps = np.hypot(np.diff(px) / pw, np.diff(py) / ph)
+            if len(steps) > 10 and np.nanmedian(steps) < MIN_POINT_SPACING_PX:
+                self.points_item.setData([], [])
+
     def points_visible(self) -> bool:
         """Whether measured points are currently drawn (the view is zoomed in far enough)."""
         return len(self.points_item.data) > 0
 
+    def _shown_proposal(self):
+        """The previewed proposal if it belongs to the shown track and has been laid out here."""
+        proposal = self.state.preview
+        if proposal is None or self._proposal_xy is None or proposal.track != self.state.track:
+            return None
+        return proposal
+
     def refresh_layers(self) -> None:
-        pen = getattr(self, "_pending_track_pen", None)
-        if pen is not None:
-            self._pending_track_pen = None
-            self.track_item.setPen(pen)
         x, y = self._xy
-        self._lod_line(self.track_item, x, y, self._breaks)
+        proposal = self._shown_proposal()
+        highlight = self._highlight if proposal is not None else None
+        if highlight is not None and len(highlight.original) == len(x):
+            # Unchanged stretches as the track; changed ones faded under the proposal.
+            self._lod_line(self.track_item, np.where(highlight.original & ~edge_rows(highlight.original), np.nan, x),
+                           y, self._breaks)
+            self._lod_line(self.faded_item, np.where(highlight.original, x, np.nan), y, self._breaks)
+        else:
+            self._lod_line(self.track_item, x, y, self._breaks)
+            self.faded_item.setData([], [])
         if self._selected_mask.any():
             self._lod_line(self.selection_item, np.where(self._selected_mask, x, np.nan), y, self._breaks)
+            chosen = np.flatnonzero(self._selected_mask)
+            self._lod_markers(self.selected_points_item, x[chosen], y[chosen], POINT_LIMIT, thin=False)
         else:
             self.selection_item.setData([], [])
-        self._lod_markers(self.points_item, x, y, POINT_LIMIT, thin=False)
-        proposal = self.state.preview
-        if proposal is not None and self._proposal_xy is not None and proposal.track == self.state.track:
+            self.selected_points_item.setData([], [])
+        self._draw_points(x, y)
+        if proposal is not None and self._proposal_xy is not None:
             px, py = self._proposal_xy
             breaks = np.zeros(len(px), dtype=bool)
             ends = np.append(proposal.segment_starts[1:], len(px)) - 1
             breaks[ends[(ends >= 0) & (ends < len(px))]] = True
-            self._lod_line(self.proposal_item, px, py, breaks)
-            removed = proposal.removed[proposal.removed < len(x)]
-            self._lod_markers(self.removed_item, x[removed], y[removed], MARKER_LIMIT, thin=True)
+            drawn = highlight.proposed if highlight is not None and len(highlight.proposed) == len(px) else None
+            self._lod_line(self.proposal_item, px if drawn is None else np.where(drawn, px, np.nan), py, breaks)
+            if proposal.tool in SHOW_KEPT_TOOLS:
+                # Thousands of removal crosses hide the result; the kept points are what a rider checks.
+                self.removed_item.setData([], [])
+                kept = np.flatnonzero(proposal.source_rows >= 0)
+                self._lod_markers(self.kept_item, px[kept], py[kept], MARKER_LIMIT, thin=True)
+            else:
+                self.kept_item.setData([], [])
+                removed = proposal.removed[proposal.removed < len(x)]
+                self._lod_markers(self.removed_item, x[removed], y[removed], MARKER_LIMIT, thin=True)
             inserted = proposal.inserted
             self._lod_markers(self.inserted_item, px[inserted], py[inserted], MARKER_LIMIT, thin=True)
         else:
-            for item in (self.proposal_item, self.removed_item, self.inserted_item):
+            for item in (self.proposal_item, self.removed_item, self.inserted_item, self.kept_item):
                 item.setData([], [])
         self.after_refresh()
 
@@ -269,15 +290,13 @@ class LinkedPlot(pg.PlotWidget):
             self.hover_item.setData([x[row]], [y[row]])
 
     def _on_preview(self, proposal) -> None:
-        track_faded = self.palette.qcolor("track", 90 if proposal is not None else 255)
-        pen = pg.mkPen(track_faded, width=self.track_item.base_width if hasattr(self.track_item, "base_width")
-                       else 2)
-        # Applied with the other layers in refresh_layers, so a preview costs one repaint, not two.
-        self._pending_track_pen = pen
         self._proposal_xy = None
+        self._highlight = None
         if proposal is not None and proposal.track == self.state.track and len(proposal.points):
             self._proposal_xy = self.proposal_xy(proposal)
-        # Redraw in the next event-loop turn: each view then takes its own short UI step.
+            self._highlight = change_highlight(proposal.source_rows, proposal.changed, proposal.removed,
+                                               len(self._xy[0]))
+        # Redraw in the next event-loop turn (all layers in one refresh: one repaint per preview).
         self._refresh_timer.start()
 
     def detach(self) -> None:
@@ -299,6 +318,37 @@ class LinkedPlot(pg.PlotWidget):
             return None
         row = int(np.nanargmin(d2))
         return row if d2[row] <= radius_px ** 2 else None
+
+    def set_move_mode(self, on: bool) -> None:
+        """In "Move points" mode a press on a shown point grabs it; a plain drag elsewhere still pans.
+
+        Outside the mode every plain drag pans, so looking around can never change the track.
+        """
+        self.move_mode = bool(on)
+        self.update_cursor(None)
+
+    def grabbable_row(self, pos: QtCore.QPointF) -> int | None:
+        """The point a press at ``pos`` would grab (only in move mode, with points drawn)."""
+        if not self.move_mode or not self.points_visible():
+            return None
+        return self.nearest_row(pos)
+
+    def update_cursor(self, pos: QtCore.QPointF | None, moving: bool = False) -> None:
+        """An open hand over a point that a press would grab, a closed one while it moves."""
+        shape = QtCore.Qt.CursorShape
+        if moving:
+            self.setCursor(shape.ClosedHandCursor)
+        elif pos is not None and self.grabbable_row(pos) is not None:
+            self.setCursor(shape.OpenHandCursor)
+        else:
+            self.unsetCursor()
+
+    def wheel_axis(self, modifiers) -> int | None:
+        """Which axis the wheel zooms (``None``: both); the profile overrides this."""
+        return None
+
+    def wheel_zoomed(self, axis: int | None) -> None:
+        """Hook after a wheel zoom."""
 
     def gesture_started(self, pos: QtCore.QPointF, modifiers) -> str | None:
         return None

@@ -225,3 +225,59 @@ def take_with_breaks(values: np.ndarray, rows: np.ndarray) -> np.ndarray:
     out[rows == BREAK] = np.nan
     return out
 
+
+@dataclass
+class ChangeHighlight:
+    """Which rows a preview draws as changed, so a proposal shows only what it changes.
+
+    Attributes
+    ----------
+    original : bool per original row: the row is removed or moved, or a line through it changes
+        (drawn faded, the rest of the track is drawn as usual).
+    proposed : bool per proposed row: the row is changed or inserted, or a line through it changes,
+        plus one neighbour on each side so the changed stretch joins the unchanged track
+        (drawn in the proposal colour).
+    """
+
+    original: np.ndarray
+    proposed: np.ndarray
+
+    @property
+    def changed_rows(self) -> int:
+        """Original rows drawn as changed."""
+        return int(np.count_nonzero(self.original))
+
+
+def _grow(mask: np.ndarray) -> np.ndarray:
+    """``mask`` plus each set row's neighbours (a line needs both ends of a step)."""
+    out = mask.copy()
+    out[1:] |= mask[:-1]
+    out[:-1] |= mask[1:]
+    return out
+
+
+def edge_rows(mask: np.ndarray) -> np.ndarray:
+    """Rows of ``mask`` with an unset neighbour: where a highlighted stretch meets the rest."""
+    inner = mask.copy()
+    inner[1:] &= mask[:-1]
+    inner[:-1] &= mask[1:]
+    return mask & ~inner
+
+
+def change_highlight(source_rows: np.ndarray, changed: np.ndarray, removed: np.ndarray,
+                     n_original: int) -> ChangeHighlight:
+    """Rows to highlight for a proposal given by its ``source_rows`` (−1: inserted), ``changed``
+    (per proposed row) and ``removed`` (original rows); see :class:`ChangeHighlight`."""
+    src = np.asarray(source_rows, dtype=np.int64)
+    touched = np.asarray(changed, dtype=bool) | (src < 0)
+    if len(src) > 1:
+        # A kept step whose original had points between (removed) or that joins inserted rows is a new line.
+        jump = (src[1:] != src[:-1] + 1)
+        touched[:-1] |= jump
+        touched[1:] |= jump
+    original = np.zeros(n_original, dtype=bool)
+    removed = np.asarray(removed, dtype=np.int64)
+    original[removed[(removed >= 0) & (removed < n_original)]] = True
+    known = touched & (src >= 0) & (src < n_original)
+    original[src[known]] = True
+    return ChangeHighlight(original=_grow(original), proposed=_grow(touched))

@@ -8,7 +8,8 @@ from PySide6 import QtCore, QtGui, QtWidgets
 from ..geo.projection import LocalProjection
 from ..model.state import EditorState
 from .base import GRAB_PX, LinkedPlot
-from .geometry import TrackGeometry
+from .gesture_box import PassiveScatter
+from .geometry import TrackGeometry, lod_indices, take_with_breaks
 from .style import Palette
 from ..units import METRIC, UnitSystem
 
@@ -70,8 +71,12 @@ class ScaleBar(pg.GraphicsWidgetAnchor, pg.GraphicsObject):
 class MapView(LinkedPlot):
     """Track lines per segment, points when zoomed in, segment ends and waypoints.
 
-    Gestures: drag a point (when points are shown) to move it, shift+drag (or
-    any drag in box mode) to select a box, click to select a point.
+    Besides the shown track it draws the file's other tracks (thin, muted) and its routes
+    (dashed, with their route points) for context; only the shown track is edited.
+
+    Gestures: a drag pans; click selects a point; shift+drag (or any drag in box mode)
+    selects a box; in "Move points" mode a press on a point (the pointer shows a hand)
+    drags it.
 
     Signals
     -------
@@ -89,12 +94,24 @@ class MapView(LinkedPlot):
         self.plotItem.hideAxis("left")
         self.plotItem.hideAxis("bottom")
         p = palette
-        self.start_item = pg.ScatterPlotItem(symbol="o", size=11, pen=pg.mkPen("w", width=1.5),
+        self.start_item = PassiveScatter(symbol="o", size=11, pen=pg.mkPen("w", width=1.5),
                                              brush=pg.mkBrush(p.qcolor("inserted")))
-        self.end_item = pg.ScatterPlotItem(symbol="s", size=10, pen=pg.mkPen("w", width=1.5),
+        self.end_item = PassiveScatter(symbol="s", size=10, pen=pg.mkPen("w", width=1.5),
                                            brush=pg.mkBrush(p.qcolor("ink")))
-        self.waypoint_item = pg.ScatterPlotItem(symbol="star", size=15, pen=pg.mkPen("w", width=1),
+        self.waypoint_item = PassiveScatter(symbol="star", size=15, pen=pg.mkPen("w", width=1),
                                                 brush=pg.mkBrush(p.qcolor("waypoint")))
+        self.other_tracks_item = pg.PlotCurveItem(pen=pg.mkPen(p.qcolor("muted", 170), width=1.5),
+                                                  connect="finite", skipFiniteCheck=True)
+        self.routes_item = pg.PlotCurveItem(pen=pg.mkPen(p.qcolor("waypoint"), width=2,
+                                                         style=QtCore.Qt.PenStyle.DashLine),
+                                            connect="finite", skipFiniteCheck=True)
+        self.route_points_item = PassiveScatter(symbol="t1", size=8, pen=pg.mkPen("w", width=1),
+                                                brush=pg.mkBrush(p.qcolor("waypoint")))
+        for z, item in enumerate((self.other_tracks_item, self.routes_item, self.route_points_item)):
+            item.setZValue(2 + z)  # under the shown track
+            self.view_box.addItem(item, ignoreBounds=True)
+        empty = np.zeros(0)
+        self._context = {"tracks": (empty, empty), "routes": (empty, empty), "waypoints": (empty, empty)}
         for z, item in enumerate((self.start_item, self.end_item, self.waypoint_item)):
             item.setZValue(40 + z)
             self.view_box.addItem(item, ignoreBounds=True)
@@ -143,8 +160,10 @@ class MapView(LinkedPlot):
         self._labels = []
         if not len(lat):
             self.waypoint_item.setData([], [])
+            self._context["waypoints"] = (np.zeros(0), np.zeros(0))
             return
         x, y = self.projection.to_xy(lat, lon)
+        self._context["waypoints"] = (x, y)
         self.waypoint_item.setData(x, y)
         for xi, yi, name in list(zip(x, y, names))[:LABEL_LIMIT]:
             if not name:
@@ -156,6 +175,39 @@ class MapView(LinkedPlot):
             self.view_box.addItem(label, ignoreBounds=True)
             self._labels.append(label)
 
+    def set_context(self, tracks: list[tuple[np.ndarray, np.ndarray]],
+                    routes: list[tuple[np.ndarray, np.ndarray]]) -> None:
+        """The file's other tracks and its routes, as (lat, lon) arrays, drawn for context.
+
+        Call before :meth:`set_geometry` with ``fit`` so the fitted view includes them.
+        """
+        def joined(lines):
+            xs, ys = [], []
+            for lat, lon in lines:
+                if len(lat):
+                    x, y = self.projection.to_xy(np.asarray(lat), np.asarray(lon))
+                    xs += [x, [np.nan]]
+                    ys += [y, [np.nan]]
+            return (np.concatenate(xs), np.concatenate(ys)) if xs else (np.zeros(0), np.zeros(0))
+
+        self._context["tracks"] = joined(tracks)
+        self._context["routes"] = joined(routes)
+        rx, ry = self._context["routes"]
+        ok = np.isfinite(rx)
+        self.route_points_item.setData(rx[ok], ry[ok])
+        self._refresh_timer.start()
+
+    def data_rect(self) -> QtCore.QRectF | None:
+        """The shown track with everything else in the file (other tracks, routes, waypoints)."""
+        xs = [self._xy[0]] + [c[0] for c in self._context.values()]
+        ys = [self._xy[1]] + [c[1] for c in self._context.values()]
+        x, y = np.concatenate(xs), np.concatenate(ys)
+        ok = np.isfinite(x) & np.isfinite(y)
+        if not ok.any():
+            return None
+        x0, x1, y0, y1 = x[ok].min(), x[ok].max(), y[ok].min(), y[ok].max()
+        return QtCore.QRectF(x0, y0, max(x1 - x0, 1e-6), max(y1 - y0, 1e-6))
+
     def set_geometry(self, geometry: TrackGeometry, fit: bool = False) -> None:
         super().set_geometry(geometry, fit)
         starts = geometry.segment_starts[geometry.segment_starts < len(geometry)]
@@ -164,6 +216,11 @@ class MapView(LinkedPlot):
         self.end_item.setData(geometry.x_m[ends], geometry.y_m[ends])
 
     def after_refresh(self) -> None:
+        rect, pixel = self._visible()
+        for item, key in ((self.other_tracks_item, "tracks"), (self.routes_item, "routes")):
+            x, y = self._context[key]
+            rows = lod_indices(x, y, rect, pixel)
+            item.setData(take_with_breaks(x, rows), take_with_breaks(y, rows), connect="finite")
         self.scale_bar.update_bar()
 
     # --- gestures -------------------------------------------------------------------------------
@@ -172,6 +229,7 @@ class MapView(LinkedPlot):
             return
         pos = self.view_box.mapSceneToView(scene_pos)
         self.state.set_hover(self.nearest_row(pos, radius_px=3 * GRAB_PX))
+        self.update_cursor(pos)
 
     def gesture_started(self, pos, modifiers):
         shift = bool(modifiers & QtCore.Qt.KeyboardModifier.ShiftModifier)
@@ -180,14 +238,16 @@ class MapView(LinkedPlot):
             self._box.setRect(QtCore.QRectF(pos, pos))
             self._box.show()
             return "box"
-        row = self.nearest_row(pos) if self.points_visible() else None
+        row = self.grabbable_row(pos)
         if row is not None:
             self._drag_row = row
             self.state.set_hover(row)
             if row not in self.state.selection:
                 self.state.set_selection([row])
+            self.update_cursor(pos, moving=True)
+            self.move_status.emit(f"Moving point {row + 1:,}: release to put it there")
             return "point"
-        return None
+        return None  # a plain drag pans
 
     def gesture_moved(self, gesture, pos):
         if gesture == "box":
@@ -223,6 +283,8 @@ class MapView(LinkedPlot):
         elif gesture == "point":
             row, self._drag_row = self._drag_row, None
             self.drag_item.setData([], [])
+            self.update_cursor(pos)
+            self.move_status.emit("")
             if row is not None and (pos.x(), pos.y()) != (self._xy[0][row], self._xy[1][row]):
                 self.point_dragged.emit(row, float(pos.x()), float(pos.y()))
             self._on_hover(self.state.hover)

@@ -21,8 +21,12 @@ BAND_SIGMAS = 1.96
 class ProfileView(LinkedPlot):
     """Elevation (short units) against distance (long units) or clock time.
 
-    Gestures: shift+drag selects a distance range (a movable region), dragging
-    a point (when points are shown) changes its elevation, click selects a point.
+    Gestures: a drag pans; the wheel zooms distance (elevation follows what is in view) and
+    shift+wheel zooms elevation; click selects a point; shift+drag selects a distance range
+    (its edges can be dragged); in "Move points" mode a press on a point drags its elevation.
+
+    The distance axis is in the long unit (km, mi), or in the short one (m, ft) for a track
+    shorter than one long unit, always without a scale factor in the label.
 
     Signals
     -------
@@ -39,6 +43,7 @@ class ProfileView(LinkedPlot):
         self.units = METRIC
         self.against_time = False
         self.utc_offset_h = 0.0
+        self.x_unit_m, self.x_unit_name = self.units.long_m, self.units.long_name
         self.view_box.setMouseEnabled(x=True, y=True)
         self.plotItem.showGrid(x=True, y=True, alpha=0.25)
         self.plotItem.getAxis("left").setWidth(52)
@@ -58,6 +63,10 @@ class ProfileView(LinkedPlot):
         self.region = pg.LinearRegionItem(brush=pg.mkBrush(p.rgba("selection", 60)),
                                           pen=pg.mkPen(p.qcolor("ink", 160), width=1.5), swapMode="sort")
         self.region.setZValue(5)
+        # Dragging inside a selected stretch pans like anywhere else; its edges still adjust it.
+        self.region.setMovable(False)
+        for line in self.region.lines:
+            line.setMovable(True)
         self.region.hide()
         self.view_box.addItem(self.region, ignoreBounds=True)
         self.region.sigRegionChanged.connect(self._region_moved)
@@ -65,11 +74,14 @@ class ProfileView(LinkedPlot):
         self._drag_row: int | None = None
         self._setting_region = False
         self.scene().sigMouseMoved.connect(self._mouse_moved)
+        for axis in ("left", "bottom"):
+            self.plotItem.getAxis(axis).enableAutoSIPrefix(False)
         self._update_labels()
 
     # --- configuration ----------------------------------------------------------------------------
     def set_units(self, units: UnitSystem) -> None:
         self.units = units
+        self._choose_x_unit(self.geometry)
         self._update_labels()
         self.refresh_coordinates()
 
@@ -77,14 +89,39 @@ class ProfileView(LinkedPlot):
         """Draw against clock time (at ``utc_offset_h`` hours from UTC) instead of distance."""
         if against_time and not self.geometry.has_time and len(self.geometry):
             against_time = False
+        if against_time != self.against_time or not hasattr(self, "_axis_kind"):
+            axis = pg.DateAxisItem(orientation="bottom", utcOffset=0) if against_time else pg.AxisItem("bottom")
+            axis.setPen(pg.mkPen(self.palette["muted"]))
+            axis.setTextPen(pg.mkPen(self.palette["ink"]))
+            axis.enableAutoSIPrefix(False)
+            self.plotItem.setAxisItems({"bottom": axis})
+            self.cache_axes()
+            self._axis_kind = against_time
         self.against_time, self.utc_offset_h = against_time, utc_offset_h
-        axis = pg.DateAxisItem(orientation="bottom", utcOffset=0) if against_time else pg.AxisItem("bottom")
-        axis.setPen(pg.mkPen(self.palette["muted"]))
-        axis.setTextPen(pg.mkPen(self.palette["ink"]))
-        self.plotItem.setAxisItems({"bottom": axis})
-        self.cache_axes()
         self._update_labels()
         self.refresh_coordinates()
+
+    def refresh_coordinates(self) -> None:
+        super().refresh_coordinates()
+        # A new axis learns the view's range only when the range next changes; when the refit
+        # leaves the range as it was (same numbers), it would keep its default 0..1 ticks.
+        self.plotItem.getAxis("bottom").linkedViewChanged(self.view_box)
+        self._on_selection(self.state.selection)  # the selected stretch in the new axis units
+
+    def _choose_x_unit(self, geometry: TrackGeometry) -> bool:
+        """Metres (feet) for a track shorter than one km (mile); returns whether the unit changed."""
+        length = float(geometry.distance_m[-1]) if len(geometry) else 0.0
+        u = self.units
+        unit = (u.short_m, u.short_name) if 0 < length < u.long_m else (u.long_m, u.long_name)
+        changed = unit != (self.x_unit_m, self.x_unit_name)
+        self.x_unit_m, self.x_unit_name = unit
+        return changed
+
+    def set_geometry(self, geometry: TrackGeometry, fit: bool = False) -> None:
+        changed = self._choose_x_unit(geometry)
+        if changed:
+            self._update_labels()
+        super().set_geometry(geometry, fit=fit or (changed and not self.against_time))
 
     def _update_labels(self) -> None:
         style = {"color": self.palette["ink"], "font-size": "9pt"}
@@ -93,13 +130,34 @@ class ProfileView(LinkedPlot):
             from ..units import offset_label
             self.plotItem.setLabel("bottom", f"Time ({offset_label(self.utc_offset_h)})", **style)
         else:
-            self.plotItem.setLabel("bottom", f"Distance ({self.units.long_name})", **style)
+            self.plotItem.setLabel("bottom", f"Distance ({self.x_unit_name})", **style)
+
+    # --- wheel ------------------------------------------------------------------------------------
+    def wheel_axis(self, modifiers) -> int | None:
+        """The wheel zooms distance; with shift it zooms elevation."""
+        return 1 if modifiers & QtCore.Qt.KeyboardModifier.ShiftModifier else 0
+
+    def wheel_zoomed(self, axis: int | None) -> None:
+        if axis == 0:
+            self.fit_elevation_to_view()
+
+    def fit_elevation_to_view(self) -> None:
+        """Elevation range of the points within the shown distance (or time) range."""
+        x, y = self._xy
+        (x0, x1), _ = self.view_box.viewRange()
+        with np.errstate(invalid="ignore"):
+            inside = (x >= x0) & (x <= x1) & np.isfinite(y)
+        if not inside.any():
+            return
+        lo, hi = float(y[inside].min()), float(y[inside].max())
+        pad = max((hi - lo) * 0.08, 2.0 / self.units.short_m)
+        self.view_box.setYRange(lo - pad, hi + pad, padding=0)
 
     # --- coordinates ------------------------------------------------------------------------------
     def x_axis_values(self, geometry: TrackGeometry) -> np.ndarray:
         if self.against_time:
             return geometry.time_s + self.utc_offset_h * 3600.0
-        return geometry.distance_m / self.units.long_m
+        return geometry.distance_m / self.x_unit_m
 
     def track_xy(self, geometry: TrackGeometry):
         return self.x_axis_values(geometry), geometry.ele_m / self.units.short_m
@@ -127,7 +185,7 @@ class ProfileView(LinkedPlot):
         if known.all() or not known.any():
             return x
         p = proposal.points
-        steps = np.nan_to_num(step_lengths(p.lat, p.lon), nan=0.0) / self.units.long_m
+        steps = np.nan_to_num(step_lengths(p.lat, p.lon), nan=0.0) / self.x_unit_m
         along = np.concatenate(([0.0], np.cumsum(steps)))
         idx = np.arange(len(src))
         before = np.maximum.accumulate(np.where(known, idx, -1))
@@ -157,6 +215,8 @@ class ProfileView(LinkedPlot):
             self.band_lower.setData([], [])
             return
         px, py = self._proposal_xy
+        if self._highlight is not None and len(self._highlight.proposed) == len(py):
+            py = np.where(self._highlight.proposed, py, np.nan)  # the band only where the track changes
         half = BAND_SIGMAS * np.asarray(sigma, dtype=np.float64) / self.units.short_m
         rect, pixel = self._visible()
         rows = lod_indices(px, py, rect, pixel, columns=True)
@@ -186,6 +246,7 @@ class ProfileView(LinkedPlot):
             return
         pos = self.view_box.mapSceneToView(scene_pos)
         self.state.set_hover(self._row_at_x(pos.x()))
+        self.update_cursor(pos)
 
     def _on_hover(self, row):
         super()._on_hover(row)
@@ -259,12 +320,14 @@ class ProfileView(LinkedPlot):
             self.region.show()
             self._setting_region = False
             return "region"
-        row = self.nearest_row(pos) if self.points_visible() else None
+        row = self.grabbable_row(pos)
         if row is not None:
             self._drag_row = row
             self.state.set_hover(row)
+            self.update_cursor(pos, moving=True)
+            self.move_status.emit(f"Changing the elevation of point {row + 1:,}: release to keep it")
             return "point"
-        return None
+        return None  # a plain drag pans
 
     def gesture_moved(self, gesture, pos):
         if gesture == "region":
@@ -293,6 +356,8 @@ class ProfileView(LinkedPlot):
         elif gesture == "point":
             row, self._drag_row = self._drag_row, None
             self.drag_item.setData([], [])
+            self.update_cursor(pos)
+            self.move_status.emit("")
             if row is not None:
                 ele_m = float(pos.y()) * self.units.short_m
                 if ele_m != self.geometry.ele_m[row]:

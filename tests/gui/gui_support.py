@@ -64,3 +64,32 @@ def drag(widget, points, modifiers=QtCore.Qt.KeyboardModifier.NoModifier,
     if finish:
         QTest.qWait(20)
         QTest.mouseRelease(widget, left, modifiers, points[-1])
+
+
+def click(widget, pos: QtCore.QPoint, modifiers=QtCore.Qt.KeyboardModifier.NoModifier) -> None:
+    """Move the pointer to ``pos`` (the hover marker follows, as for a real user), then click there."""
+    from PySide6.QtTest import QTest
+
+    QTest.mouseMove(widget, pos + QtCore.QPoint(6, 6))  # arrive from beside, as a hand does
+    QTest.qWait(25)  # pyqtgraph's scene ignores moves closer than ~16 ms apart (60 Hz limit)
+    QTest.mouseMove(widget, pos)
+    QTest.qWait(25)
+    QTest.mouseClick(widget, QtCore.Qt.MouseButton.LeftButton, modifiers, pos)
+    QTest.qWait(10)
+
+
+def wheel(widget, pos: QtCore.QPoint, steps: int, modifiers=QtCore.Qt.KeyboardModifier.NoModifier) -> None:
+    """Turn the mouse wheel ``steps`` notches (positive: away from the user, zoom in) over ``pos``."""
+    from PySide6 import QtGui, QtWidgets
+
+    pf = QtCore.QPointF(pos)
+    event = QtGui.QWheelEvent(pf, QtCore.QPointF(widget.mapToGlobal(pos)), QtCore.QPoint(0, 0),
+                              QtCore.QPoint(0, 120 * steps), QtCore.Qt.MouseButton.NoButton, modifiers,
+                              QtCore.Qt.ScrollPhase.NoScrollPhase, False)
+    QtWidgets.QApplication.sendEvent(widget, event)
+
+
+def line_vertices(item) -> int:
+    """How many finite vertices a pyqtgraph curve item currently draws."""
+    x, _ = item.getData()
+    return 0 if x is None else int(np.isfinite(x).sum())

@@ -97,6 +97,7 @@ def test_dragging_a_point_is_one_undo_step_and_undo_restores_it_exactly(window, 
     row = 321
     x, y = _zoom_map_on(window, row, qtbot)
     vp = window.map_view.viewport()
+    window.actions_["move_points"].trigger()       # points move only in "Move points" mode
     drag(vp, [widget_pos(window.map_view, x + 3 * k, y + 2 * k) for k in range(8)], finish=False)
     # While the drag runs nothing is committed; a rubber band shows the move.
     assert window.undo_stack.count() == 0
@@ -124,6 +125,7 @@ def test_elevation_drag_on_profile(window, qtbot):
     prof.view_box.setRange(QtCore.QRectF(d - 0.05, e - 20, 0.1, 40), padding=0)
     settle(qtbot)
     prof.refresh_layers()
+    window.actions_["move_points"].trigger()       # points move only in "Move points" mode
     drag(prof.viewport(), [widget_pos(prof, d, e + 2 * k) for k in range(6)])
     assert window.undo_stack.count() == 1
     assert abs(doc.tracks[0].points.ele[row] - (e + 10)) < 1.0  # within a screen pixel of the release

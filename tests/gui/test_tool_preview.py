@@ -33,10 +33,13 @@ def test_moving_the_smoothing_control_previews_without_touching_the_document(dem
     vertical.slider.setValue(80)                 # ... and moves the slider
     first = _wait_preview(qtbot, window)
     assert first.tool == "smooth" and first.track == 0
-    # Both views draw the proposal, the current track fades, the profile shows the band.
+    # Both views draw the proposal, the profile shows the band.
     assert len(window.map_view.proposal_item.getData()[0]) > 0
     assert len(window.profile_view.proposal_item.getData()[0]) > 0
-    assert window.map_view.track_item.opts["pen"].color().alpha() < 255
+    # Only the stretches the proposal changes fade; the rest of the track is drawn as usual.
+    assert window.map_view.faded_item.opts["pen"].color().alpha() < 255
+    assert len(window.map_view.faded_item.getData()[0]) > 0
+    assert window.map_view.track_item.opts["pen"].color().alpha() == 255
     assert len(window.profile_view.band_upper.getData()[0]) > 0
     # Totals show before -> after; after is the core's statistics of the proposed track.
     now_text, after_text = window.totals_panel.text_of("Ascent")

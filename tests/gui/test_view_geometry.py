@@ -85,3 +85,25 @@ def test_units_and_times():
     t = 1686984120.0
     assert format_clock(t) == "2023-06-17 06:42:00 UTC"
     assert format_clock(t, 5.5) == "2023-06-17 12:12:00 UTC+05:30"
+
+
+def test_change_highlight_marks_only_the_changed_stretches():
+    from editor.views.geometry import change_highlight, edge_rows
+
+    # Ten original rows; the proposal drops row 4 and moves row 7 (rows worked out by hand).
+    source = np.array([0, 1, 2, 3, 5, 6, 7, 8, 9])
+    changed = np.zeros(9, dtype=bool)
+    changed[6] = True                                          # proposed row 6 is original row 7
+    h = change_highlight(source, changed, np.array([4]), 10)
+    # Original: 3-5 (the step over the dropped row) and 7, each grown by one neighbour.
+    assert np.flatnonzero(h.original).tolist() == [2, 3, 4, 5, 6, 7, 8]
+    # Proposed: rows 3-4 (the new step 3→5) and 6, each grown by one neighbour.
+    assert np.flatnonzero(h.proposed).tolist() == [2, 3, 4, 5, 6, 7]
+    assert np.flatnonzero(edge_rows(h.original)).tolist() == [2, 8]
+    # Nothing changes: nothing highlighted.
+    h = change_highlight(np.arange(10), np.zeros(10, dtype=bool), np.zeros(0, dtype=np.int64), 10)
+    assert not h.original.any() and not h.proposed.any()
+    # An inserted row (-1) marks the step it sits in.
+    h = change_highlight(np.array([0, 1, -1, 2, 3]), np.zeros(5, dtype=bool), np.zeros(0, dtype=np.int64), 4)
+    assert np.flatnonzero(h.proposed).tolist() == [0, 1, 2, 3, 4]
+    assert np.flatnonzero(h.original).tolist() == [0, 1, 2, 3]
