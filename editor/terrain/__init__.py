@@ -5,7 +5,16 @@ whatever the raster declares (usually metres above mean sea level; see
 :meth:`Terrain.vertical_reference`).
 """
 from .sampling import NODATA, OK, OUTSIDE, Terrain, TerrainSample
-from .tiles import Tile, TerrainFileError, index_tiles, read_tile
+from .tiles import TerrainFileError, Tile, index_tiles, read_tile
 
-__all__ = ["Terrain", "TerrainSample", "Tile", "TerrainFileError", "index_tiles", "read_tile",
-           "OK", "OUTSIDE", "NODATA"]
+__all__ = [
+           "NODATA",
+           "OK",
+           "OUTSIDE",
+           "Terrain",
+           "TerrainFileError",
+           "TerrainSample",
+           "Tile",
+           "index_tiles",
+           "read_tile",
+]

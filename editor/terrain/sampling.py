@@ -93,7 +93,7 @@ class Terrain:
         self._lock = threading.Lock()
 
     @classmethod
-    def open(cls, paths) -> "Terrain":
+    def open(cls, paths) -> Terrain:
         """Index files and folders (headers only); see :func:`editor.terrain.tiles.index_tiles`."""
         return cls(index_tiles(paths))
 

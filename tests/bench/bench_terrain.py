@@ -16,7 +16,7 @@ import rasterio
 from rasterio.transform import from_origin
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
-from editor.terrain import Terrain, index_tiles  # noqa: E402
+from editor.terrain import Terrain, index_tiles
 
 
 def write(path, data, west, north, res):

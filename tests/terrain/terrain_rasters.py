@@ -10,8 +10,8 @@ def write_raster(path, data: np.ndarray, *, west: float, north: float, xres: flo
                  crs: str = "EPSG:4326", nodata: float | None = None, point: bool = False,
                  dtype: str = "float32") -> str:
     """Write ``data`` (rows from north to south) with its top-left pixel corner at (west, north)."""
-    profile = dict(driver="GTiff", width=data.shape[1], height=data.shape[0], count=1, dtype=dtype,
-                   crs=crs, transform=from_origin(west, north, xres, yres))
+    profile = {"driver": "GTiff", "width": data.shape[1], "height": data.shape[0], "count": 1, "dtype": dtype,
+                   "crs": crs, "transform": from_origin(west, north, xres, yres)}
     if nodata is not None:
         profile["nodata"] = nodata
     with rasterio.open(path, "w", **profile) as ds:
