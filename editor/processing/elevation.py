@@ -94,7 +94,8 @@ def _runs(mask: np.ndarray, starts: np.ndarray, bridge: int) -> list[tuple[int, 
     return list(zip(firsts.tolist(), lasts.tolist()))
 
 
-def _disagreeing(t: np.ndarray, diff: np.ndarray, params: ElevationParams) -> np.ndarray:
+def _disagreeing(t: np.ndarray, diff: np.ndarray, params: ElevationParams,
+                 dop_scale: np.ndarray) -> np.ndarray:
     """Rows where recording minus terrain leaves its own running median (over
     :data:`DISAGREEMENT_WINDOW_S`) by more than ``disagreement_sigmas`` robust deviations (at least
     :data:`MIN_DISAGREEMENT_M`): the offset drifts slowly, a bridge or tunnel makes a bump."""
@@ -107,7 +108,8 @@ def _disagreeing(t: np.ndarray, diff: np.ndarray, params: ElevationParams) -> np
     step = float(np.median(np.diff(t[ok]))) if len(ok) > 1 else 1.0
     size = int(np.clip(DISAGREEMENT_WINDOW_S / max(step, 1e-3), 5, max(5, len(ok))) // 2 * 2 + 1)
     level = median_filter(diff[ok], size=size, mode="nearest")
-    dev = diff[ok] - level
+    # a fix with a poor DOP may stray further before it counts as a disagreement
+    dev = (diff[ok] - level) / dop_scale[ok]
     spread = MAD_TO_SIGMA * float(np.median(np.abs(dev - np.median(dev))))
     core = np.abs(dev) > max(params.disagreement_sigmas * spread, MIN_DISAGREEMENT_M)
     # hysteresis: a stretch reaches out to where the difference is back within 2 deviations, so the
@@ -196,14 +198,17 @@ def terrain_elevation(track: Track, params: ElevationParams = ElevationParams(),
         # 3. combine: stretches where the terrain leaves the recording (bridge, tunnel) are found on
         # the difference first, so that neither the offset's drift nor the heights follow them
         diff = recorded - h_terrain
-        suspect = _disagreeing(t, diff, params)
+        # the recording's error per point follows its DOP, as in the smoother (vdop, else hdop)
+        dop = arrays.r_v if np.isfinite(track.points.vdop).any() else arrays.r_h
+        suspect = _disagreeing(t, diff, params, np.sqrt(dop))
         z_use = np.where(suspect, np.nan, z_t)
         q_b, r_rec = _fit_offset(t, starts, np.where(suspect, np.nan, diff))
         # the height may vary as fast as either measurement shows: a barometer sees detail the raster
         # smooths away, while a receiver's wander goes into the offset
         # (its own noise too: the difference's white part also holds the raster's error)
-        recording = Problem(t, recorded, np.where(np.isfinite(recorded), 1.0, 1.0), starts=starts)
+        recording = Problem(t, recorded, dop, starts=starts)
         q_rec, r_rec, _ = _fit_axis(recording, "vertical", None, True, lambda: None)
+        r_rec = r_rec * dop
         q_h = max(q_h, q_rec)
         info["q_ground"] = q_h
         h, b, _ = combine_smooth(t, starts, recorded, r_rec, z_use, r_t, q_h, q_b)
@@ -223,7 +228,7 @@ def terrain_elevation(track: Track, params: ElevationParams = ElevationParams(),
             new = np.where(np.isfinite(recorded), recorded, np.where(known, h + b, recorded))
         else:
             new = np.where(known, h, recorded)
-        info.update(q_offset=q_b, r_recording=r_rec,
+        info.update(q_offset=q_b, r_recording=float(np.median(r_rec)),
                     offset_range_m=(float(np.nanmin(b)), float(np.nanmax(b))))
     write = arrays.rows if rows is None else np.intersect1d(np.asarray(rows, dtype=np.int64), arrays.rows)
     at = np.searchsorted(arrays.rows, write)

@@ -105,7 +105,7 @@ def write_tiles(land: Landscape, lat, lon, folder: Path, rng) -> list[str]:
         for da in (-1, 0, 1):
             for db in (-1, 0, 1):
                 margin.add((a + da, b + db))
-    n = int(round(TILE_DEG / ARCSEC))
+    n = round(TILE_DEG / ARCSEC)
     paths = []
     for a, b in sorted(margin):
         south, west = a * TILE_DEG, b * TILE_DEG
