@@ -4,11 +4,14 @@
 
     trackwright clean IN.gpx -o OUT.gpx
     trackwright clean A.gpx B.gpx -d OUTDIR        # writes OUTDIR/A-cleaned.gpx, OUTDIR/B-cleaned.gpx
+    trackwright clean IN.gpx -o OUT.gpx --dem TILES/ --elevation combine   # elevation from terrain
 
 Steps, in this order (see :mod:`editor.processing.pipeline` for why): remove
 spikes and the catch-up after signal loss, fill gaps (up to ``--max-gap`` seconds
 as recorded, 120 by default), collapse stops,
-smooth (strength chosen by maximum likelihood unless given), simplify (off
+smooth (strength chosen by maximum likelihood unless given), elevation from the terrain rasters
+given with ``--dem`` (files or folders, repeatable; ``--elevation`` fill, replace or combine,
+default: combine when a track has recorded elevation), simplify (off
 unless ``--simplify METRES``; elevation is kept to the same number of metres
 unless ``--simplify-vertical`` says otherwise, so climb totals survive). Everything the steps do not touch is kept:
 waypoints, routes, metadata and extensions.
@@ -31,6 +34,7 @@ OUTPUT_SUFFIX = "-cleaned"
 #: Output formats, by extension (GPX 1.1, GeoJSON, CSV; see editor.io.export).
 OUTPUT_TYPES = (".gpx", ".geojson", ".json", ".csv")
 ACTIVITY_CHOICES = ("auto", "walk", "run", "ride", "drive")
+ELEVATION_CHOICES = ("auto", "fill", "replace", "combine")
 BAR_WIDTH = 24
 
 
@@ -93,6 +97,12 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--simplify-vertical", type=_vertical_arg, default=None, metavar="METRES|off",
                    help="vertical tolerance of --simplify, so climbs survive (default: the same "
                         "number of metres as --simplify; off: horizontal only)")
+    p.add_argument("--dem", type=Path, action="append", default=[], metavar="PATH",
+                   help="terrain raster (GeoTIFF etc.) or folder of them; repeatable. Adds the elevation "
+                        "step. Terrain heights are the ground, not a bridge or a tunnel")
+    p.add_argument("--elevation", choices=ELEVATION_CHOICES, default="auto",
+                   help="with --dem: fill (only points without elevation), replace (terrain only) or "
+                        "combine (recording and terrain together; default when the track has elevation)")
     p.add_argument("--activity", choices=ACTIVITY_CHOICES, default="auto",
                    help="limits for spikes and stops (default auto: inferred from each track's speeds)")
     p.add_argument("--overwrite", action="store_true", help="replace output files that already exist "
@@ -101,10 +111,11 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     return p
 
 
-def clean_params(args):
-    """The :class:`CleanParams` the command line asks for."""
+def clean_params(args, terrain=None):
+    """The :class:`CleanParams` the command line asks for (``terrain``: the opened ``--dem`` files)."""
     # each tool's module directly, not the registry: that would import simplification (and shapely)
     # on every run, while it is off unless --simplify is given
+    from .processing.elevation import ElevationParams
     from .processing.gaps import GapParams
     from .processing.pipeline import CleanParams
     from .processing.smoothing import SmoothParams
@@ -126,7 +137,43 @@ def clean_params(args):
         if args.fill_gaps else None,
         collapse_stops=StopParams() if args.stops else None,
         smooth=smooth,
+        elevation=ElevationParams(mode=getattr(args, "elevation", "auto")),
+        terrain=terrain,
         simplify=_simplify_params(args.simplify, vertical) if args.simplify else None)
+
+
+def _open_terrain(args):
+    """The ``--dem`` files as one terrain (headers only), or None; a bad file is a clear error."""
+    dem = list(getattr(args, "dem", []) or [])
+    if not dem:
+        if getattr(args, "elevation", "auto") != "auto":
+            raise TrackFileError(Path("--elevation"), "needs terrain files: add --dem FILE_OR_FOLDER")
+        return None
+    from .terrain import Terrain, TerrainFileError
+
+    try:
+        terrain = Terrain.open(dem)
+    except TerrainFileError as err:
+        raise TrackFileError(err.path, err.problem) from None
+    if not terrain.tiles:
+        raise TrackFileError(dem[0], "holds no terrain raster (.tif, .hgt, ...)")
+    return terrain
+
+
+def _terrain_lines(report) -> list[str]:
+    """What the elevation step says per track: coverage, vertical reference, trusted stretches."""
+    lines = []
+    for step in report.steps:
+        if step.tool != "elevation":
+            continue
+        info = step.info
+        text = f"track {step.track + 1} elevation ({info.get('mode')}): {info.get('terrain_report')}"
+        if info.get("disagreement_count"):
+            text += (f"; {info['disagreement_count']} stretch(es) where the terrain is off the recording "
+                     "(bridge, tunnel?) keep the recorded shape")
+        lines.append(text)
+        lines.append(f"track {step.track + 1} {info.get('vertical_reference')}")
+    return lines
 
 
 def _simplify_params(tolerance_m: float, vertical_tolerance_m: float | None):
@@ -196,7 +243,8 @@ def cmd_clean(args) -> int:
 
     inputs = list(args.inputs)
     outputs = plan_outputs(inputs, args.output, args.output_dir, args.overwrite)
-    params = clean_params(args)
+    terrain = _open_terrain(args)
+    params = clean_params(args, terrain)
     if args.output_dir is not None:
         try:
             args.output_dir.mkdir(parents=True, exist_ok=True)
@@ -228,9 +276,11 @@ def cmd_clean(args) -> int:
             continue
         bar.close()
         print(f"{src} -> {dst}: {summary_line(report)}")
+        for line in _terrain_lines(report):
+            print(f"  {line}")
     if failures < len(inputs):
         print(f"Note: {CAUTION}")
     return 2 if failures else 0
 
 
-__all__ = ["add_parser", "cmd_clean", "clean_params", "plan_outputs", "OUTPUT_SUFFIX"]
+__all__ = ["OUTPUT_SUFFIX", "add_parser", "clean_params", "cmd_clean", "plan_outputs"]

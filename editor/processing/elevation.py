@@ -230,6 +230,7 @@ def terrain_elevation(track: Track, params: ElevationParams = ElevationParams(),
             new = np.where(known, h, recorded)
         info.update(q_offset=q_b, r_recording=float(np.median(r_rec)),
                     offset_range_m=(float(np.nanmin(b)), float(np.nanmax(b))))
+    info["disagreement_count"] = len(info["disagreements"])
     write = arrays.rows if rows is None else np.intersect1d(np.asarray(rows, dtype=np.int64), arrays.rows)
     at = np.searchsorted(arrays.rows, write)
     points.ele[write] = new[at]

@@ -21,7 +21,10 @@ Order of the steps, and why
    really stands still instead of metres of jitter, so the strength it picks
    fits the moving parts, and the stops add no distance.
 4. **Smooth**: the estimate of the actual path, on the cleaned measurements.
-5. **Simplify** last, and only on request: thinning is a presentation choice,
+5. **Elevation from terrain**, only when terrain files are given: after smoothing, so the terrain is
+   read along clean positions (the tool smooths positions again for its sampling; on smoothed
+   positions that changes little) and its elevation replaces the smoothed recorded one.
+6. **Simplify** last, and only on request: thinning is a presentation choice,
    and on raw data it would keep the noise (the farthest points from a chord are
    the wildest).
 
@@ -38,14 +41,16 @@ posterior standard deviations, which the batch result does not keep.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, field, replace
-from typing import TYPE_CHECKING, Callable
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from ..model.document import Document, Route, Track
 from .activity import Activity
 from .cleaning_base import activity_for, planar, replan
+from .elevation import ElevationParams, terrain_elevation
 from .gaps import GapParams, fill_gaps
 from .smoothing import SmoothParams, smooth
 from .spikes import SpikeParams, despike
@@ -70,6 +75,8 @@ class CleanParams:
         up to :attr:`GapParams.max_gap_s` = 120 s are filled).
     smooth : on by default with automatic (maximum-likelihood) strength.
     simplify : off by default.
+    elevation : elevation from terrain (:mod:`.elevation`); runs only with ``terrain`` given.
+    terrain : an :class:`editor.terrain.Terrain` (the user's elevation rasters), or ``None``.
     stats_params : thresholds of the reported totals.
     """
 
@@ -78,7 +85,9 @@ class CleanParams:
     fill_gaps: GapParams | None = field(default_factory=GapParams)
     collapse_stops: StopParams | None = field(default_factory=StopParams)
     smooth: SmoothParams | None = field(default_factory=SmoothParams)
-    simplify: "SimplifyParams | None" = None
+    simplify: SimplifyParams | None = None
+    elevation: ElevationParams | None = field(default_factory=ElevationParams)
+    terrain: object | None = field(default=None, compare=False, repr=False)
     stats_params: StatsParams = field(default_factory=StatsParams)
 
 
@@ -125,6 +134,8 @@ def _steps(params: CleanParams, activity: Activity):
 
     chosen = [(despike, params.despike), (fill_gaps, params.fill_gaps), (collapse_stops, params.collapse_stops),
               (smooth, params.smooth)]
+    if params.terrain is not None and params.elevation is not None:
+        chosen.append((terrain_elevation, params.elevation))
     if params.simplify is not None:
         from .simplify import simplify
 
@@ -133,8 +144,8 @@ def _steps(params: CleanParams, activity: Activity):
 
 
 #: Extra arguments of the steps that take them: the shared plane, known totals, no unused std.
-_TAKES_PLANE = {despike, fill_gaps, collapse_stops, smooth}
-_EXTRA = {smooth: {"want_std": False}}
+_TAKES_PLANE = {despike, fill_gaps, collapse_stops, smooth, terrain_elevation}
+_EXTRA = {smooth: {"want_std": False}, terrain_elevation: {"want_std": False}}
 
 
 def _scalars(info: dict) -> dict:
@@ -169,6 +180,8 @@ def clean_document(doc: Document, params: CleanParams = CleanParams(),
             extra = dict(_EXTRA.get(fn, {}))
             if fn in _TAKES_PLANE:
                 extra.update(plane=plane, before=before)
+            if fn is terrain_elevation:
+                extra["terrain"] = params.terrain
             proposal = fn(track, step_params, track_index=index, stats_params=params.stats_params, **extra)
             if not proposal.is_noop():
                 proposal.edit().apply(out)
@@ -207,4 +220,4 @@ def summary_line(report: CleanReport) -> str:
             f"ascent {b.ascent_m:.0f} -> {a.ascent_m:.0f} m, points {b.points} -> {a.points}")
 
 
-__all__ = ["CleanParams", "CleanReport", "StepReport", "clean_document", "copy_document", "summary_line", "CAUTION"]
+__all__ = ["CAUTION", "CleanParams", "CleanReport", "StepReport", "clean_document", "copy_document", "summary_line"]

@@ -27,7 +27,11 @@ _ENV = {"GDAL_DISABLE_READDIR_ON_OPEN": "EMPTY_DIR"}
 
 
 class TerrainFileError(ValueError):
-    """A terrain file that cannot be used; the message names the file and why."""
+    """A terrain file that cannot be used: ``path`` and ``problem``; ``str()`` is ``"PATH: problem"``."""
+
+    def __init__(self, path, problem: str):
+        self.path, self.problem = str(path), problem
+        super().__init__(f"{path}: {problem}")
 
 
 @dataclass(frozen=True)
@@ -78,12 +82,12 @@ def read_tile(path: str | os.PathLike) -> Tile:
     try:
         with rasterio.Env(**_ENV), rasterio.open(path) as ds:
             if ds.crs is None:
-                raise TerrainFileError(f"{path}: the raster declares no coordinate reference system")
+                raise TerrainFileError(path, "the raster declares no coordinate reference system")
             if ds.count < 1:
-                raise TerrainFileError(f"{path}: the raster has no band")
+                raise TerrainFileError(path, "the raster has no band")
             t = ds.transform
             if (t.a == 0 and t.b == 0) or (t.d == 0 and t.e == 0):
-                raise TerrainFileError(f"{path}: the raster has no usable geotransform")
+                raise TerrainFileError(path, "the raster has no usable geotransform")
             crs = CRS.from_wkt(ds.crs.to_wkt())
             tags = ds.tags()
             units = ds.units[0] if ds.units and ds.units[0] else None
@@ -93,7 +97,7 @@ def read_tile(path: str | os.PathLike) -> Tile:
                         pixel_is_point=tags.get("AREA_OR_POINT", "Area").lower() == "point",
                         vertical_crs=_vertical_name(crs), units=units)
     except RasterioIOError as exc:
-        raise TerrainFileError(f"{path}: not a raster rasterio can read ({exc})") from None
+        raise TerrainFileError(path, f"not a raster rasterio can read ({exc})") from None
 
 
 def raster_files(paths) -> list[str]:
@@ -107,7 +111,7 @@ def raster_files(paths) -> list[str]:
         elif p.exists():
             out.append(str(p))
         else:
-            raise TerrainFileError(f"{p}: no such file or folder")
+            raise TerrainFileError(p, "no such file or folder")
     return out
 
 
