@@ -23,7 +23,8 @@ Order of the steps, and why
 4. **Smooth**: the estimate of the actual path, on the cleaned measurements.
 5. **Elevation from terrain**, only when terrain files are given: after smoothing, so the terrain is
    read along clean positions (the tool smooths positions again for its sampling; on smoothed
-   positions that changes little) and its elevation replaces the smoothed recorded one.
+   positions that changes little). With terrain, the smoothing step leaves elevation alone: the
+   elevation step models the recorded elevation itself.
 6. **Simplify** last, and only on request: thinning is a presentation choice,
    and on raw data it would keep the noise (the farthest points from a chord are
    the wildest).
@@ -132,9 +133,15 @@ def _steps(params: CleanParams, activity: Activity):
         # a step whose own activity is "auto" gets the track's; an explicit one is kept
         return replace(p, activity=activity) if getattr(p, "activity", None) == "auto" else p
 
+    with_terrain = params.terrain is not None and params.elevation is not None
+    smoothing = params.smooth
+    if with_terrain and smoothing is not None:
+        # the elevation step models the recorded elevation itself: smoothing it first would hide the
+        # recording's noise from that step's estimates and smooth it twice
+        smoothing = replace(smoothing, smooth_elevation=False)
     chosen = [(despike, params.despike), (fill_gaps, params.fill_gaps), (collapse_stops, params.collapse_stops),
-              (smooth, params.smooth)]
-    if params.terrain is not None and params.elevation is not None:
+              (smooth, smoothing)]
+    if with_terrain:
         chosen.append((terrain_elevation, params.elevation))
     if params.simplify is not None:
         from .simplify import simplify

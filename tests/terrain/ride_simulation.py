@@ -129,14 +129,19 @@ def write_tiles(land: Landscape, lat, lon, folder: Path, rng) -> list[str]:
 PLACES = ((46.31, 7.13), (-33.52, 150.21), (-16.52, 179.97), (61.2, -149.7), (36.1, -5.4), (44.6, 6.0))
 
 
-def make_ride(seed: int, folder: Path, place: tuple[float, float] | None = None) -> Ride:
+def make_ride(seed: int, folder: Path, place: tuple[float, float] | None = None,
+              duration_s: int | None = None) -> Ride:
     """One simulated ride (see module notes); ``seed`` picks everything, ``place`` the origin."""
     rng = np.random.default_rng(seed)
     lat0, lon0 = place if place is not None else PLACES[seed % len(PLACES)]
     land = Landscape(rng, lat0, lon0, relief_m=rng.choice([25.0, 60.0, 120.0, 220.0]))
     duration = int(rng.uniform(2400, 5400))
+    duration = duration if duration_s is None else duration_s
     speed = rng.uniform(5.0, 9.0)
     x, y = _path(rng, land, duration, speed)
+    if abs(lon0) > 179.0:  # centre the ride on the 180th meridian so that it crosses it
+        lon0 = 180.0 - float(np.mean(x)) / (M_PER_DEG * np.cos(np.radians(lat0)))
+        land.lon0 = lon0
     true_ele = land.height_xy(x, y)
     to_lat = lambda yy: lat0 + yy / M_PER_DEG
     to_lon = lambda xx: (lon0 + xx / (M_PER_DEG * np.cos(np.radians(lat0))) + 180.0) % 360.0 - 180.0
