@@ -4,10 +4,10 @@ from __future__ import annotations
 import numpy as np
 from PySide6 import QtCore, QtWidgets
 
+from ..panels.elevation_panel import ElevationPanel
 from ..panels.smoothing_panel import SmoothingPanel
 from ..panels.specs import ORDER, TOOL_TEXTS, activity_spec
 from ..panels.tool_panel import ToolInfo, ToolPanel
-
 
 #: Where each tool lives, for builds where the ``editor.processing.tools`` registry is absent.
 _TOOL_MODULES = (("smooth", "smoothing", "smooth", "SmoothParams", "Smooth track"),
@@ -79,11 +79,29 @@ class ToolDock(QtWidgets.QTabWidget):
             self.addTab(scroller, info.title)
             self.setTabToolTip(self.count() - 1, info.summary)
             self.panels.append(panel)
+        if self.panels:  # elevation from terrain: not in the registry, it needs the user's terrain files
+            self._add_elevation_panel(window)
         if not self.panels:
             note = QtWidgets.QLabel("The processing tools are not part of this build.")
             note.setWordWrap(True)
             self.addTab(note, "Tools")
         self.currentChanged.connect(lambda _i: window.discard_preview())
+
+    def _add_elevation_panel(self, window) -> None:
+        panel = ElevationPanel()
+        panel.preview_requested.connect(lambda immediately, p=panel: self._preview(p, immediately))
+        panel.apply_requested.connect(window.apply_preview)
+        panel.discard_requested.connect(window.discard_preview)
+        map_view = getattr(window, "map_view", None)
+        if map_view is not None and hasattr(map_view, "set_terrain"):
+            panel.terrain_changed.connect(map_view.set_terrain)  # shaded relief of the same terrain
+        scroller = QtWidgets.QScrollArea()
+        scroller.setWidgetResizable(True)
+        scroller.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
+        scroller.setWidget(panel)
+        self.addTab(scroller, panel.info.title)
+        self.setTabToolTip(self.count() - 1, panel.info.summary)
+        self.panels.append(panel)
 
     def panel(self, name: str) -> ToolPanel | None:
         """The panel of the tool whose function is called ``name`` (``"smooth"``) or whose key is ``name``."""
@@ -156,4 +174,6 @@ class ToolDock(QtWidgets.QTabWidget):
             parts.append(f"{len(proposal.removed):,} removed")
         if len(proposal.inserted):
             parts.append(f"{len(proposal.inserted):,} added")
-        panel.set_status("Proposal: " + ", ".join(parts) + ". Apply keeps it; Discard drops it.")
+        extra = panel.describe(proposal) if hasattr(panel, "describe") else ""
+        panel.set_status("Proposal: " + ", ".join(parts) + (f"; {extra}" if extra else "")
+                         + ". Apply keeps it; Discard drops it.")
