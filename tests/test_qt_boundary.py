@@ -19,7 +19,7 @@ BLOCKED_IMPORT = textwrap.dedent("""
     sys.meta_path.insert(0, BlockQt())
     import editor
     names = ["editor.cli", "editor.cli_clean", "editor.recovery", "editor.app_entry", "editor.__main__"]
-    for pkg in ("editor.model", "editor.io", "editor.geo", "editor.processing"):
+    for pkg in ("editor.model", "editor.io", "editor.geo", "editor.processing", "editor.terrain"):
         module = importlib.import_module(pkg)
         names += [m.name for m in pkgutil.walk_packages(module.__path__, pkg + ".")]
     imported = []

@@ -59,6 +59,7 @@ def test_elevation_tab_previews_applies_and_shades_the_map(window, qtbot):
     truth = json.loads((DEMO / "demo_tunnel.truth.json").read_text(encoding="utf-8"))["true_ascent_m"]
     assert abs(proposal.after.ascent_m - truth) < abs(proposal.before.ascent_m - truth)
     assert "terrain height found" in panel.status.text()
+    qtbot.waitUntil(lambda: len(window.profile_view.terrain_item.getData()[0]) > 0, timeout=5000)
     panel.apply_button.click()
     assert window.undo_stack.count() == 1
     relief = window.map_view.relief
