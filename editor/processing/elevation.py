@@ -35,7 +35,7 @@ import numpy as np
 
 from ..model.document import Track
 from .cleaning_base import MAD_TO_SIGMA
-from .elevation_model import combine_smooth, offset_drift_loglik
+from .elevation_model import OffsetDrift, combine_smooth
 from .kalman import Problem
 from .proposal import Proposal, make_proposal
 from .scalar_search import bounded_minimum
@@ -124,8 +124,9 @@ def _disagreeing(t: np.ndarray, diff: np.ndarray, params: ElevationParams,
 def _fit_offset(t, starts, d) -> tuple[float, float]:
     """Maximum-likelihood ``(q_b, r_rec)`` of the recording-minus-terrain difference."""
     lo, hi = LOG10_DRIFT_RANGE
-    best = bounded_minimum(lambda v: -offset_drift_loglik(t, starts, d, 1.0, 10.0 ** v)[0], lo, hi, 0.01)
-    _, scale = offset_drift_loglik(t, starts, d, 1.0, 10.0 ** best.x)
+    problem = OffsetDrift(t, starts, d)
+    best = bounded_minimum(lambda v: -problem.loglik(10.0 ** v)[0], lo, hi, 0.01)
+    _, scale = problem.loglik(10.0 ** best.x)
     return 10.0 ** best.x * scale, scale
 
 
