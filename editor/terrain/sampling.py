@@ -250,6 +250,8 @@ class Terrain:
             if tile.nodata is not None:
                 data[data == tile.nodata] = np.nan
             data[~np.isfinite(data)] = np.nan
+            if tile.scale != 1.0 or tile.offset != 0.0:
+                data = data * tile.scale + tile.offset
             self._blocks[key] = data
             if len(self._blocks) > CACHE_BLOCKS:
                 self._blocks.popitem(last=False)

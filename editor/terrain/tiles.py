@@ -49,6 +49,9 @@ class Tile:
     pixel_is_point: bool
     vertical_crs: str | None
     units: str | None
+    #: GDAL's scale and offset of the band: height = stored * scale + offset
+    scale: float = 1.0
+    offset: float = 0.0
 
     @property
     def bounds(self) -> tuple[float, float, float, float]:
@@ -95,7 +98,9 @@ def read_tile(path: str | os.PathLike) -> Tile:
                         transform=(t.a, t.b, t.c, t.d, t.e, t.f), width=ds.width, height=ds.height,
                         nodata=None if ds.nodata is None else float(ds.nodata),
                         pixel_is_point=tags.get("AREA_OR_POINT", "Area").lower() == "point",
-                        vertical_crs=_vertical_name(crs), units=units)
+                        vertical_crs=_vertical_name(crs), units=units,
+                        scale=float(ds.scales[0] if ds.scales and ds.scales[0] else 1.0),
+                        offset=float(ds.offsets[0] if ds.offsets and ds.offsets[0] else 0.0))
     except RasterioIOError as exc:
         raise TerrainFileError(path, f"not a raster rasterio can read ({exc})") from None
 

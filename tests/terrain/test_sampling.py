@@ -146,3 +146,14 @@ def test_bad_files_are_named(tmp_path):
         Terrain.open([bad])
     with pytest.raises(TerrainFileError, match="nothing-here"):
         Terrain.open([tmp_path / "nothing-here"])
+
+
+def test_band_scale_and_offset_are_applied(tmp_path):
+    # GDAL raster data model: "unscaled value = raw * scale + offset" for a band with scale/offset set
+    raw = np.arange(16, dtype="int16").reshape(4, 4) * 7
+    path = write_raster(tmp_path / "s.tif", raw, west=0.0, north=4.0, xres=1.0, yres=1.0, dtype="int16")
+    with rasterio.open(path, "r+") as ds:
+        ds.scales = (0.1,)
+        ds.offsets = (100.0,)
+    got = Terrain.open([path]).sample(np.array([4.0 - 1.5]), np.array([2.5])).height[0]
+    assert got == pytest.approx(raw[1, 2] * 0.1 + 100.0)
