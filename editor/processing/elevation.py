@@ -21,8 +21,10 @@ Terrain height error per point: ``terrain_sigma_m^2 + (slope * (position_sigma_m
 the distance bilinear interpolation can be off within a pixel (common practice; the pixel / 4 is
 our choice), then scaled by the maximum-likelihood factor of the terrain-only fit.
 
-Rows outside the terrain (or on holes in it) keep their recorded height in ``replace``; they are
-reported, never given a made-up terrain value. The heights are those of the raster's vertical
+Rows outside the terrain (or on holes in it) are reported, never given a made-up terrain value: in
+``replace`` they get their recorded height smoothed as the smoothing tool would (NaN stays NaN); a
+track with no terrain under it at all gets just that (the batch clean leaves elevation to this step
+when terrain is given). The heights are those of the raster's vertical
 reference (usually metres above mean sea level). Results are estimates, not surveyed data, and are
 not for navigation.
 """
@@ -39,7 +41,7 @@ from .elevation_model import OffsetDrift, combine_smooth
 from .kalman import Problem
 from .proposal import Proposal, make_proposal
 from .scalar_search import bounded_minimum
-from .smoothing import SmoothParams, _estimate, _fit_axis, _problems, _track_arrays
+from .smoothing import SmoothParams, _estimate, _fit_axis, _problems, _track_arrays, smooth
 from .stats import StatsParams
 
 if TYPE_CHECKING:
@@ -173,9 +175,19 @@ def terrain_elevation(track: Track, params: ElevationParams = ElevationParams(),
     spread = params.position_sigma_m + sample.pixel_m / 4.0
     r_t = params.terrain_sigma_m ** 2 + (sample.slope * spread) ** 2
     t, starts = arrays.t, arrays.starts
-    ground = Problem(t, z_t, np.where(np.isfinite(z_t), r_t, 1.0), starts=starts)
     if not np.isfinite(z_t).any():
-        raise ValueError("no track point lies on the terrain files given: " + sample.report())
+        # nothing to take from the terrain (a batch of several files must not stop on the one that
+        # lies elsewhere): recorded heights are smoothed as the smoothing tool would, and the report
+        # says why
+        info["disagreement_count"] = 0
+        if has_ele and mode != "fill":
+            points = smooth(track, SmoothParams(smooth_horizontal=False), rows=rows, plane=plane,
+                            want_std=False).points
+            info["terrain_report"] += "; recorded heights smoothed instead"
+        return make_proposal("elevation", "Elevation from terrain", track_index, track, points,
+                             track.segment_starts, np.arange(n), stats_params, before=before,
+                             reasons={"outside terrain": arrays.rows[sample.status != 0]}, info=info)
+    ground = Problem(t, z_t, np.where(np.isfinite(z_t), r_t, 1.0), starts=starts)
     q_h, r_scale, _ = _fit_axis(ground, "vertical", None, True, lambda: None)
     # a raster smoother than stated may lower its error, but not to nothing (a noise-free raster would
     # otherwise leave the recording no say at all)
@@ -189,6 +201,10 @@ def terrain_elevation(track: Track, params: ElevationParams = ElevationParams(),
 
     sigma_v = None
     if mode == "replace" or not has_ele:
+        outside = ~np.isfinite(z_t) & np.isfinite(recorded)
+        if outside.any():  # recorded heights off the terrain: smoothed, as without terrain
+            recorded = smooth(track, SmoothParams(smooth_horizontal=False), plane=plane,
+                              want_std=False).points.ele[arrays.rows]
         new = np.where(np.isfinite(z_t), h_terrain, recorded)
         if mode == "fill":
             new = np.where(np.isfinite(recorded), recorded, new)

@@ -42,6 +42,28 @@ def main() -> None:
         both = best_of(lambda: combine_smooth(t, starts, rec, 1.0, ter, r_ter, 1e-3, 1e-3))
         print(f"n={n}: elevation-only {only * 1e3:.1f} ms, combine {both * 1e3:.1f} ms, "
               f"ratio {both / only:.2f} (target <= 2)")
+    whole_tool()
+
+
+def whole_tool() -> None:
+    """The whole elevation tool (a preview's work) on the demo ride and its terrain, next to smoothing."""
+    from editor.io.gpx import read_gpx
+    from editor.processing.cleaning_base import planar
+    from editor.processing.elevation import ElevationParams, terrain_elevation
+    from editor.processing.smoothing import smooth
+    from editor.processing.stats import track_totals
+    from editor.terrain import Terrain
+
+    demo = Path(__file__).resolve().parents[2] / "demo_tracks"
+    track = read_gpx(demo / "demo_ride.gpx").tracks[0]
+    terrain = Terrain.open([demo / "demo_ride.terrain.tif"])
+    plane, before = planar(track), track_totals(track)
+    smoothing = best_of(lambda: smooth(track, want_std=False, plane=plane, before=before), 3)
+    print(f"demo ride ({len(track.points)} points): automatic smoothing {smoothing * 1e3:.0f} ms")
+    for mode in ("replace", "combine"):
+        took = best_of(lambda: terrain_elevation(track, ElevationParams(mode=mode), terrain=terrain,
+                                                 plane=plane, before=before, want_std=False), 3)
+        print(f"  elevation tool, {mode}: {took * 1e3:.0f} ms ({took / smoothing:.1f}x the smoothing preview)")
 
 
 if __name__ == "__main__":

@@ -103,10 +103,20 @@ def test_selection_limits_the_change(terrain):
     assert changed.min() >= 100 and changed.max() < 150
 
 
-def test_no_terrain_under_the_track_is_an_error(terrain):
+def test_a_track_beside_the_terrain_is_smoothed_and_reported(terrain):
+    # No terrain under the track: nothing is made up; the recorded heights are smoothed instead (the
+    # batch clean leaves elevation to this step when terrain is given), and fill changes nothing.
     terr, _ = terrain
-    with pytest.raises(ValueError, match="outside the terrain"):
-        terrain_elevation(_track(np.arange(10.0), np.full(10, 90_000.0), None), terrain=terr)
+    rng = np.random.default_rng(5)
+    east = np.arange(300.0) * 5
+    rec = 500 + 0.05 * east + rng.normal(0, 3, 300)
+    track = _track(east, np.full(300, 90_000.0), rec)
+    prop = terrain_elevation(track, ElevationParams(mode="replace"), terrain=terr)
+    assert "terrain height found for 0 of 300 points" in prop.info["terrain_report"]
+    assert "smoothed instead" in prop.info["terrain_report"]
+    assert len(prop.reasons["outside terrain"]) == 300
+    assert np.std(prop.points.ele - (500 + 0.05 * east)) < 0.5 * np.std(rec - (500 + 0.05 * east))
+    assert terrain_elevation(track, ElevationParams(mode="fill"), terrain=terr).is_noop()
 
 
 def test_unknown_mode_is_refused(terrain):
