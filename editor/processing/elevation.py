@@ -19,7 +19,9 @@ Modes
 Terrain height error per point: ``terrain_sigma_m^2 + (slope * (position_sigma_m + pixel / 4))^2``
 -- the raster's own error, plus the height change over the position's remaining error and over
 the distance bilinear interpolation can be off within a pixel (common practice; the pixel / 4 is
-our choice), then scaled by the maximum-likelihood factor of the terrain-only fit.
+our choice) -- times the number of samples per pixel along the track (up to
+:data:`MAX_SAMPLES_PER_PIXEL`: samples reading the same pixels share their error), then scaled by the
+maximum-likelihood factor of the terrain-only fit.
 
 Rows outside the terrain (or on holes in it) are reported, never given a made-up terrain value: in
 ``replace`` they get their recorded height smoothed as the smoothing tool would (NaN stays NaN); a
@@ -54,6 +56,8 @@ LOG10_DRIFT_RANGE = (-7.0, 1.0)
 DISAGREEMENT_WINDOW_S = 600.0
 #: Smallest disagreement (m) that marks a stretch, whatever the noise.
 MIN_DISAGREEMENT_M = 8.0
+#: Most samples counted as sharing one terrain error (see the error model in ``terrain_elevation``).
+MAX_SAMPLES_PER_PIXEL = 10.0
 #: Lowest factor the maximum-likelihood fit may put on the stated terrain error variance.
 MIN_TERRAIN_ERROR_SCALE = 0.25
 CAUTION = ("Terrain heights are the ground surface, not a bridge deck or a tunnel; cleaned elevations are "
@@ -174,6 +178,13 @@ def terrain_elevation(track: Track, params: ElevationParams = ElevationParams(),
     z_t = sample.height
     spread = params.position_sigma_m + sample.pixel_m / 4.0
     r_t = params.terrain_sigma_m ** 2 + (sample.slope * spread) ** 2
+    # samples closer together than a pixel read the same pixels (and the raster's errors are
+    # correlated over neighbouring pixels): they are not independent measurements, so each counts for
+    # less, as in an effective-sample-size correction (our choice of form, capped)
+    if problems["horizontal"] is not None:
+        step = np.hypot(np.diff(xy[:, 0]), np.diff(xy[:, 1]))
+        step = np.r_[step[:1], step] if len(step) else np.zeros(len(z_t))
+        r_t = r_t * np.clip(sample.pixel_m / np.maximum(step, 0.1), 1.0, MAX_SAMPLES_PER_PIXEL)
     t, starts = arrays.t, arrays.starts
     if not np.isfinite(z_t).any():
         # nothing to take from the terrain (a batch of several files must not stop on the one that

@@ -52,8 +52,8 @@ def test_replace_follows_the_ground_and_reports_outside(terrain):
     track = _track(east, north, None)
     prop = terrain_elevation(track, ElevationParams(mode="replace"), terrain=terr)
     inside = east < 3100
-    # within 5 m everywhere: the smoother rounds the 40 m deep, 150 m wide trough's bottom by ~4 m
-    assert np.abs(prop.points.ele[inside] - ground(1000.0, east[inside])).max() < 5.0
+    # within 6 m everywhere: the smoother rounds the 40 m deep, 150 m wide trough's bottom by ~5 m
+    assert np.abs(prop.points.ele[inside] - ground(1000.0, east[inside])).max() < 6.0
     out = prop.reasons["outside terrain"]
     assert len(out) > 40 and east[out].min() > 3150
     assert np.isnan(prop.points.ele[out]).all()               # nothing made up outside the terrain
