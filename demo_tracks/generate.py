@@ -7,7 +7,10 @@ smooth true path and a smooth true elevation profile, walks or rides it with a g
 then "records" it the way a consumer logger would: time-correlated position error, white jitter,
 multipath spikes, drift while standing still, a signal-loss gap with a false catch-up jump, noisy
 1 m elevation, irregular sampling and a heart-rate extension. It writes ``<stem>.gpx`` (GPX 1.1) and
-``<stem>.truth.json`` (the totals of the noise-free truth and where each artefact is).
+``<stem>.truth.json`` (the totals of the noise-free truth and where each artefact is), and
+``<stem>.terrain.tif``: the scenario's invented landscape as a 1-arc-second terrain raster that agrees
+with its true elevation profile (``demo_terrain.py``; the ground rises over the tunnel). One raster per
+scenario: the three invented profiles were made independently and disagree where their paths cross.
 
 It deliberately does not import the ``editor`` package, so the demo files are an independent
 recording for the editor's tests. Fixed seed: two runs give byte-identical files (on one platform).
@@ -36,7 +39,13 @@ _E2 = _F * (2 - _F)
 GEOD = Geod(ellps="WGS84")
 
 
+from demo_terrain import write_terrain  # noqa: E402  (beside this script)
 from scenarios import SCENARIOS, Scenario  # noqa: E402  (beside this script)
+
+#: Each scenario's invented landscape, a GeoTIFF beside its recording (see demo_terrain.py).
+TERRAIN_SUFFIX = ".terrain.tif"
+#: Ground above the tunnel's middle, metres (the ridge the tunnel passes under).
+TUNNEL_COVER_M = 140.0
 
 
 # ----------------------------------------------------------------------------- truth
@@ -400,7 +409,23 @@ def main(argv: list[str] | None = None) -> int:
             path = args.out / f"{sc.stem}{suffix}"
             path.write_bytes(text.encode("utf-8"))
             print(f"wrote {path} ({path.stat().st_size:,} bytes, {len(rec['t_ms'])} points)")
+        path = args.out / f"{sc.stem}{TERRAIN_SUFFIX}"
+        write_terrain(path, [_ground_of(sc, truth)])
+        print(f"wrote {path} ({path.stat().st_size:,} bytes, invented terrain)")
     return 0
+
+
+def _ground_of(sc: Scenario, truth: dict) -> dict:
+    """The path, its true elevation, and the ground above it (a ridge over the tunnel, 0 elsewhere)."""
+    step = 10  # every 10th metre of the dense truth is ample for a 30 m raster
+    lat, lon = to_latlon(sc, truth["east"][::step], truth["north"][::step])
+    s = truth["s"][::step]
+    extra = np.zeros(len(s))
+    if sc.tunnel is not None:
+        a, b = at_corner(truth, sc.tunnel[0]), at_corner(truth, sc.tunnel[1])
+        inside = (s > a) & (s < b)
+        extra[inside] = TUNNEL_COVER_M * np.sin(np.pi * (s[inside] - a) / (b - a)) ** 0.5
+    return {"lat": lat, "lon": lon, "ele": truth["ele"][::step], "ground_extra": extra}
 
 
 if __name__ == "__main__":

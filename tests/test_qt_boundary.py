@@ -19,7 +19,8 @@ BLOCKED_IMPORT = textwrap.dedent("""
     sys.meta_path.insert(0, BlockQt())
     import editor
     names = ["editor.cli", "editor.recovery", "editor.units", "editor.bundled", "editor.app.session", "editor.__main__"]
-    for pkg in ("editor.model", "editor.io", "editor.geo", "editor.processing", "editor.cli"):
+    for pkg in ("editor.model", "editor.io", "editor.geo", "editor.processing", "editor.cli", "editor.recovery",
+                "editor.terrain"):
         module = importlib.import_module(pkg)
         names += [m.name for m in pkgutil.walk_packages(module.__path__, pkg + ".")]
     imported = []

@@ -3,6 +3,9 @@
 
 Usage: ``QT_QPA_PLATFORM=offscreen python tools/make_screenshot.py [OUT.png]`` (works without a
 display). Uses a throwaway settings file, so the user's own settings are neither read nor changed.
+``--terrain [OUT.png]`` renders the demo hike with its invented terrain instead: the elevation tab's
+preview, the terrain's line in the profile and shaded relief under the map
+(docs/screenshot-terrain.png).
 """
 from __future__ import annotations
 
@@ -26,7 +29,63 @@ FOCUS_FRACTION = 0.42
 MAP_HALF_WIDTH_M = 900.0
 
 
+def _wait(app, condition, seconds: float = 60.0) -> bool:
+    from PySide6 import QtCore
+
+    deadline = time.monotonic() + seconds
+    while not condition() and time.monotonic() < deadline:
+        app.processEvents(QtCore.QEventLoop.ProcessEventsFlag.AllEvents, 20)
+    return condition()
+
+
+def terrain_shot(out: Path) -> int:
+    """The demo hike with its terrain: elevation preview (combine), terrain line, shaded relief."""
+    from PySide6 import QtCore
+
+    from editor.app import create_application
+    from editor.app.settings import AppSettings
+    from editor.app.window import MainWindow
+
+    app = create_application()
+    settings_dir = tempfile.mkdtemp(prefix="trackwright-shot-")
+    window = MainWindow(AppSettings.at_path(Path(settings_dir) / "settings.ini"))
+    window.resize(1600, 1000)
+    window.show()
+    hike = ROOT / "demo_tracks" / "demo_hike.gpx"
+    if not window.open_path(hike, confirmed=True):
+        print(f"cannot open {hike}", file=sys.stderr)
+        return 2
+    panel = window.tool_dock.panel("elevation")
+    window.tool_dock.show_panel(panel)
+    panel.set_terrain_paths([ROOT / "demo_tracks" / "demo_hike.terrain.tif"])
+    if not _wait(app, lambda: window.state.preview is not None):
+        print("the preview did not arrive", file=sys.stderr)
+        return 1
+    geometry = window.geometry_
+    x0, x1 = float(geometry.x_m.min()), float(geometry.x_m.max())
+    y0, y1 = float(geometry.y_m.min()), float(geometry.y_m.max())
+    pad = 300.0
+    window.map_view.view_box.setRange(QtCore.QRectF(x0 - pad, y0 - pad, x1 - x0 + 2 * pad, y1 - y0 + 2 * pad),
+                                      padding=0)
+    relief = window.map_view.relief
+    app.processEvents()
+    if not _wait(app, lambda: relief.item.isVisible() and not relief._timer.isActive()):
+        print("the relief did not arrive", file=sys.stderr)
+        return 1
+    _wait(app, lambda: False, 1.5)  # the relief of the final view range
+    out.parent.mkdir(parents=True, exist_ok=True)
+    window.grab().save(str(out))
+    window.discard_preview()
+    window.undo_stack.setClean()
+    window.close()
+    relief.shutdown()
+    print(f"wrote {out}")
+    return 0
+
+
 def main(argv: list[str]) -> int:
+    if len(argv) > 1 and argv[1] == "--terrain":
+        return terrain_shot(Path(argv[2]) if len(argv) > 2 else ROOT / "docs" / "screenshot-terrain.png")
     out = Path(argv[1]) if len(argv) > 1 else ROOT / "docs" / "screenshot.png"
     from PySide6 import QtCore
 

@@ -6,13 +6,15 @@ from dataclasses import replace
 import numpy as np
 from PySide6 import QtCore, QtWidgets
 
+from ..panels.elevation_panel import ElevationPanel
 from ..panels.smoothing_panel import SmoothingPanel
 from ..panels.tool_panel import ToolPanel
 from ..processing.smoothing import estimate_strength
 from ..processing.tools import TOOLS
 
 #: The panel class for each descriptor's ``panel`` kind.
-PANEL_KINDS: dict[str, type[ToolPanel]] = {"standard": ToolPanel, "strength": SmoothingPanel}
+PANEL_KINDS: dict[str, type[ToolPanel]] = {"standard": ToolPanel, "strength": SmoothingPanel,
+                                           "terrain": ElevationPanel}
 
 
 class ToolDock(QtWidgets.QTabWidget):
@@ -29,6 +31,8 @@ class ToolDock(QtWidgets.QTabWidget):
             panel.discard_requested.connect(window.previews.discard_preview)
             if isinstance(panel, SmoothingPanel):
                 panel.estimate_requested.connect(lambda p=panel: self.estimate(p))
+            if isinstance(panel, ElevationPanel):
+                panel.terrain_changed.connect(window.map_view.set_terrain)  # shaded relief of the same terrain
             scroller = QtWidgets.QScrollArea()
             scroller.setWidgetResizable(True)
             scroller.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
@@ -101,15 +105,17 @@ class ToolDock(QtWidgets.QTabWidget):
         panel.show_proposal(proposal)
         noop = proposal.is_noop()
         panel.set_has_preview(True, applicable=not noop)
-        panel.set_status(proposal_status(proposal, noop))
+        extra = panel.describe(proposal) if isinstance(panel, ElevationPanel) else ""
+        panel.set_status(proposal_status(proposal, noop, extra))
 
 
 def _count(n: int, word: str) -> str:
     return f"{n:,} {word}{'' if n == 1 else 's'}"
 
 
-def proposal_status(proposal, noop: bool) -> str:
-    """What a preview does, for the panel: counts, or that it changes nothing; and what was left alone."""
+def proposal_status(proposal, noop: bool, extra: str = "") -> str:
+    """What a preview does, for the panel: counts, or that it changes nothing; and what was left alone.
+    ``extra``: what the panel adds (the terrain's coverage)."""
     notes = [str(n) for n in proposal.info.get("notes", ())]
     left = (" Left alone: " + "; ".join(notes) + ".") if notes else ""
     if noop:
@@ -120,4 +126,5 @@ def proposal_status(proposal, noop: bool) -> str:
         parts.append(f"{len(proposal.removed):,} removed")
     if len(proposal.inserted):
         parts.append(f"{len(proposal.inserted):,} added")
-    return "Proposal: " + ", ".join(parts) + ". Apply keeps it; Discard drops it." + left
+    return ("Proposal: " + ", ".join(parts) + (f"; {extra}" if extra else "") + ". Apply keeps it; Discard drops it."
+            + left)

@@ -4,11 +4,14 @@
 
     trackwright clean IN.gpx -o OUT.gpx
     trackwright clean A.gpx B.gpx -d OUTDIR        # writes OUTDIR/A-cleaned.gpx, OUTDIR/B-cleaned.gpx
+    trackwright clean IN.gpx -o OUT.gpx --dem TILES/ --elevation combine   # elevation from terrain
 
 Steps, in this order (see :mod:`editor.processing.pipeline` for why): remove
 spikes and the catch-up after signal loss, fill gaps (up to ``--max-gap`` seconds
 as recorded, 120 by default), collapse stops,
-smooth (strength chosen by maximum likelihood unless given), simplify (off
+smooth (strength chosen by maximum likelihood unless given), elevation from the terrain rasters
+given with ``--dem`` (files or folders, repeatable; ``--elevation`` fill, replace or combine,
+default: combine when a track has recorded elevation), simplify (off
 unless ``--simplify METRES``; elevation is kept to the same number of metres
 unless ``--simplify-vertical`` says otherwise, so climb totals survive). Everything the steps do not touch is kept:
 waypoints, routes, metadata and extensions. A GPX output records what was done in its
@@ -98,6 +101,9 @@ def add_parser(subparsers: Any) -> argparse.ArgumentParser:
     where.add_argument("-d", "--output-dir", type=Path, metavar="DIR",
                        help=f"folder for the cleaned copies, named NAME{OUTPUT_SUFFIX}.gpx")
     add_tool_options(p)
+    p.add_argument("--dem", type=Path, action="append", default=[], metavar="PATH",
+                   help="terrain raster (GeoTIFF etc.) or folder of them; repeatable. Adds the elevation "
+                        "step. Terrain heights are the ground, not a bridge or a tunnel")
     p.add_argument("--activity", choices=(AUTO, *ACTIVITIES), default=AUTO,
                    help="limits for spikes and stops (default auto: inferred from each track's speeds)")
     p.add_argument("--overwrite", action="store_true", help="replace output files that already exist "
@@ -130,6 +136,41 @@ def clean_params(args: argparse.Namespace) -> CleanParams:
             on = on or option.turns_on
         steps[tool.key] = replace(tool.params(), **changes) if on else None
     return CleanParams(activity=args.activity, **steps)
+
+
+def open_terrain(args: argparse.Namespace) -> Any:
+    """The ``--dem`` files as one terrain (headers only), or None; a bad file is a clear error."""
+    dem = list(getattr(args, "dem", []) or [])
+    if not dem:
+        if getattr(args, "tool_elevation_elevation", None) is not None:
+            raise TrackFileError(Path("--elevation"), "needs terrain files: add --dem FILE_OR_FOLDER")
+        return None
+    from ..terrain import Terrain, TerrainFileError
+
+    try:
+        terrain = Terrain.open(dem)
+    except TerrainFileError as err:
+        raise TrackFileError(err.path, err.problem) from None
+    if not terrain.tiles:
+        raise TrackFileError(dem[0], "holds no terrain raster (.tif, .hgt, ...)")
+    return terrain
+
+
+def terrain_lines(report: Any) -> list[str]:
+    """What the elevation step says per track: coverage, vertical reference, trusted stretches."""
+    lines = []
+    for step in report.steps:
+        if step.tool != "elevation":
+            continue
+        info = step.info
+        text = f"track {step.track + 1} elevation ({info.get('mode')}): {info.get('terrain_report')}"
+        count = info.get("disagreement_count")
+        if count:
+            text += (f"; {count} stretch{'es' if count != 1 else ''} where the terrain is off the recording "
+                     "(bridge, tunnel?) keep the recorded shape")
+        lines.append(text)
+        lines.append(f"track {step.track + 1} {info.get('vertical_reference')}")
+    return lines
 
 
 def plan_outputs(inputs: list[Path], output: Path | None, output_dir: Path | None, overwrite: bool) -> list[Path]:
@@ -197,6 +238,7 @@ def cmd_clean(args: argparse.Namespace) -> int:
     inputs = list(args.inputs)
     outputs = plan_outputs(inputs, args.output, args.output_dir, args.overwrite)
     params = clean_params(args)
+    terrain = open_terrain(args)
     if args.output_dir is not None:
         try:
             args.output_dir.mkdir(parents=True, exist_ok=True)
@@ -212,7 +254,8 @@ def cmd_clean(args: argparse.Namespace) -> int:
             def step(fraction: float, what: str) -> None:
                 bar(0.05 + 0.85 * fraction, what)
 
-            cleaned, report = clean_document(doc, params, progress=step, inserted_marker=GAP_FILL_MARKER)
+            cleaned, report = clean_document(doc, params, progress=step, inserted_marker=GAP_FILL_MARKER,
+                                             terrain=terrain)
             cleaned.extra = cleaning_record(cleaned.extra, report)
             bar(0.92, "writing")
             write_document(cleaned, dst, backup=args.overwrite)
@@ -232,9 +275,11 @@ def cmd_clean(args: argparse.Namespace) -> int:
         for done in report.steps:
             for note in done.notes:
                 print(f"  {done.label}, track {done.track + 1}: {note}")
+        for line in terrain_lines(report):
+            print(f"  {line}")
     if failures < len(inputs):
         print(f"Note: {CAUTION}")
     return 2 if failures else 0
 
 
-__all__ = ["add_parser", "cmd_clean", "clean_params", "plan_outputs", "OUTPUT_SUFFIX"]
+__all__ = ["OUTPUT_SUFFIX", "add_parser", "clean_params", "cmd_clean", "plan_outputs"]

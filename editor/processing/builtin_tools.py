@@ -10,6 +10,7 @@ from __future__ import annotations
 from typing import Any
 
 from .descriptor import OFF, CliOption, ControlSpec, ToolDescriptor
+from .elevation import MODES, ElevationParams, terrain_elevation
 from .gaps import GapParams, fill_gaps
 from .simplify import SimplifyParams, simplify
 from .smoothing import STRENGTH_MAX, STRENGTH_MIN, SmoothParams, smooth
@@ -241,5 +242,57 @@ SIMPLIFY = ToolDescriptor(
     ),
 )
 
+
+
+def _elevation_mode(text: str) -> dict:
+    mode = text.strip().lower()
+    if mode not in MODES:
+        raise ValueError(f"expected one of {', '.join(MODES)}, got {text!r}")
+    return {"mode": mode}
+
+
+ELEVATION = ToolDescriptor(
+    key="elevation",
+    label="Heights from terrain",
+    title="Elevation",
+    summary=(
+        "Takes heights from terrain files you have (elevation rasters such as GeoTIFF tiles): fills missing "
+        "heights, replaces them, or combines them with your recording so its drift goes away. Terrain heights "
+        "are the ground, not a bridge or a tunnel; where the two disagree for a stretch your recording's "
+        "shape is kept and the stretch is reported."
+    ),
+    function=terrain_elevation,
+    params=ElevationParams,
+    fields={
+        "mode": ControlSpec(label="Use terrain to", choices=(
+            ("auto", "combine if the track has heights, else replace"),
+            ("combine", "combine with the recorded heights"),
+            ("replace", "replace every height"),
+            ("fill", "fill missing heights only"))),
+        "terrain_sigma_m": ControlSpec(label="Terrain height error σ", maximum=50, step=0.5, decimals=1),
+        "position_sigma_m": ControlSpec(label="Position error left σ", maximum=50, step=0.5, decimals=1),
+        "disagreement_sigmas": ControlSpec(label="Disagreement over", minimum=2, maximum=20, step=0.5,
+                                           decimals=1, suffix="σ"),
+        "min_stretch_points": ControlSpec(label="… for at least", minimum=1, maximum=1000, suffix="points"),
+    },
+    batch_order=45,
+    accepts=PLANE_AND_TOTALS | {"want_std", "terrain"},
+    requires=frozenset({"terrain"}),
+    # the elevation step models the recorded elevation itself: smoothing it first would hide the
+    # recording's noise from that step's estimates and smooth it twice
+    batch_overrides={"smooth": {"smooth_elevation": False}},
+    cli_switch=False,
+    cli_options=(
+        CliOption(
+            "--elevation",
+            "with --dem: fill (only points without elevation), replace (terrain only) or combine "
+            "(recording and terrain together); default auto: combine when the track has elevation",
+            parse=_elevation_mode,
+            metavar="auto|fill|replace|combine",
+        ),
+    ),
+    panel="terrain",
+)
+
 #: The shipped tools, in the editor's tab order.
-BUILTIN = (SMOOTH, DESPIKE, FILL_GAPS, COLLAPSE_STOPS, SIMPLIFY)
+BUILTIN = (SMOOTH, DESPIKE, FILL_GAPS, COLLAPSE_STOPS, ELEVATION, SIMPLIFY)

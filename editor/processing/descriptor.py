@@ -20,8 +20,9 @@ from typing import Any, Callable, Mapping
 #: ``plane`` the track already projected to metres (``cleaning_base.planar``), ``before`` the
 #: track's totals before the tool, ``want_std`` whether to compute per-point uncertainty
 #: (False, True, or ``"vertical"`` for the elevation band only), ``inserted_marker`` the opaque
-#: payload to give points the tool inserts (made by :mod:`editor.model.payload`; ``None``: unmarked).
-OPTIONAL_INPUTS = frozenset({"plane", "before", "want_std", "inserted_marker"})
+#: payload to give points the tool inserts (made by :mod:`editor.model.payload`; ``None``: unmarked),
+#: ``terrain`` the user's elevation rasters (an :class:`editor.terrain.Terrain`, or ``None``).
+OPTIONAL_INPUTS = frozenset({"plane", "before", "want_std", "inserted_marker", "terrain"})
 
 
 @dataclass(frozen=True)
@@ -91,11 +92,14 @@ class ToolDescriptor:
     fields : per-field display hints; fields not named still get a control.
     batch_order : place in the full clean (lower runs first); ``None``: the editor only.
     batch_default : whether the full clean runs it unless told otherwise.
-    accepts : which of :data:`OPTIONAL_INPUTS` the function takes.
+    accepts : which of :data:`OPTIONAL_INPUTS` the function takes. requires : those of them
+        without which it cannot run (the full clean skips it when one is missing).
+    batch_overrides : when this tool runs in the full clean, the fields it changes in other tools'
+        parameters, by key (the terrain step takes elevation over from smoothing).
     cli_switch : whether ``clean`` gets ``--key`` / ``--no-key`` (off for tools whose options
         already say on/off). cli_aliases : other spellings of the switch.
-    cli_options : further ``clean`` options. panel : ``"standard"``, or ``"strength"`` for the
-        panel with an automatic-strength button.
+    cli_options : further ``clean`` options. panel : ``"standard"``, ``"strength"`` for the
+        panel with an automatic-strength button, or ``"terrain"`` for the one with terrain choosers.
     """
 
     key: str
@@ -108,6 +112,8 @@ class ToolDescriptor:
     batch_order: int | None = None
     batch_default: bool = True
     accepts: frozenset[str] = frozenset()
+    requires: frozenset[str] = frozenset()
+    batch_overrides: Mapping[str, Mapping[str, Any]] = field(default_factory=dict)
     cli_switch: bool = True
     cli_aliases: tuple[str, ...] = ()
     cli_options: tuple[CliOption, ...] = ()
@@ -117,6 +123,8 @@ class ToolDescriptor:
         unknown = set(self.accepts) - OPTIONAL_INPUTS
         if unknown:
             raise ValueError(f"tool {self.key!r}: unknown optional inputs {sorted(unknown)}")
+        if not self.requires <= self.accepts:
+            raise ValueError(f"tool {self.key!r}: requires inputs it does not accept")
         if not self.key.isidentifier():
             raise ValueError(f"tool key {self.key!r} must be a Python identifier (it is a batch parameter)")
 
@@ -124,6 +132,10 @@ class ToolDescriptor:
     def flag(self) -> str:
         """The ``clean`` switch: ``fill_gaps`` -> ``--fill-gaps``."""
         return "--" + self.key.replace("_", "-")
+
+    def can_run_with(self, **available: Any) -> bool:
+        """Whether every input the tool requires is among ``available`` and not ``None``."""
+        return all(available.get(name) is not None for name in self.requires)
 
     def optional_inputs(self, **available: Any) -> dict[str, Any]:
         """Those of ``available`` that the tool accepts."""

@@ -21,13 +21,18 @@ Order of the steps, and why
    really stands still instead of metres of jitter, so the strength it picks
    fits the moving parts, and the stops add no distance.
 4. **Smooth**: the estimate of the actual path, on the cleaned measurements.
-5. **Simplify** last, and only on request: thinning is a presentation choice,
+5. **Elevation from terrain**, only when terrain files are given: after smoothing, so the terrain is
+   read along clean positions (the tool smooths positions again for its sampling; on smoothed
+   positions that changes little). With terrain, the smoothing step leaves elevation alone: the
+   elevation step models the recorded elevation itself.
+6. **Simplify** last, and only on request: thinning is a presentation choice,
    and on raw data it would keep the noise (the farthest points from a chord are
    the wildest).
 
 The order is each tool's ``batch_order`` (:mod:`editor.processing.builtin_tools`); steps
 pass nothing to each other but the track (and the marks its points carry), so the window's
-tools applied one by one in this order give the same result.
+tools applied one by one in this order give the same result. One exception is declared in
+the descriptors (``batch_overrides``): with terrain, smoothing leaves elevation to step 5.
 Steps that need timestamps (spikes, gaps, stops) leave untimed segments alone.
 Cleaned tracks are estimates, not surveyed data, and are not for navigation.
 
@@ -121,13 +126,23 @@ class CleanReport:
     caution: str = CAUTION
 
 
-def _steps(params: CleanParams, activity: Activity) -> list[tuple[ToolDescriptor, Any]]:
-    """``(descriptor, params)`` in the documented order, the activity filled in."""
+def _steps(params: CleanParams, activity: Activity, **available: Any) -> list[tuple[ToolDescriptor, Any]]:
+    """``(descriptor, params)`` in the documented order, the activity filled in; ``available``: the
+    optional inputs the caller gives (``terrain``)."""
     def with_activity(p: Any) -> Any:
         # a step whose own activity is "auto" gets the track's; an explicit one is kept
         return replace(p, activity=activity) if getattr(p, "activity", None) == "auto" else p
 
-    return [(TOOLS[key], with_activity(p)) for key, p in params.steps.items() if p is not None]
+    chosen = [(TOOLS[key], p) for key, p in params.steps.items() if p is not None]
+    # a tool that cannot run without an input it was not given (terrain) is left out, and a tool that
+    # runs may take part of another's job over (the terrain step models elevation: smoothing leaves it)
+    chosen = [(tool, p) for tool, p in chosen if tool.can_run_with(**available)]
+    overrides: dict[str, dict[str, Any]] = {}
+    for tool, _p in chosen:
+        for key, changes in tool.batch_overrides.items():
+            overrides.setdefault(key, {}).update(changes)
+    return [(tool, with_activity(replace(p, **overrides[tool.key]) if tool.key in overrides else p))
+            for tool, p in chosen]
 
 
 def _scalars(info: Mapping[str, Any]) -> dict:
@@ -137,11 +152,13 @@ def _scalars(info: Mapping[str, Any]) -> dict:
 
 def clean_document(doc: Document, params: CleanParams | None = None,
                    progress: Callable[[float, str], None] | None = None, *,
-                   inserted_marker: Any = None) -> tuple[Document, CleanReport]:
+                   inserted_marker: Any = None, terrain: Any = None) -> tuple[Document, CleanReport]:
     """Clean every track of ``doc``; return the cleaned copy and a report. ``doc`` is not changed.
 
     ``inserted_marker``: the payload of points a step inserts (the caller's file format makes it,
     e.g. :data:`editor.model.payload.GAP_FILL_MARKER`); ``None`` leaves them unmarked.
+    ``terrain``: the user's elevation rasters (:class:`editor.terrain.Terrain`); the elevation step
+    runs only with it.
 
     ``progress(fraction, step_label)`` is called before each step and once at the end (1.0).
     Waypoints, routes, metadata, extensions and every point the steps did not touch are kept.
@@ -154,7 +171,7 @@ def clean_document(doc: Document, params: CleanParams | None = None,
         plane = planar(track) if len(track.points) else None
         activity = activity_for(plane, params.activity) if plane is not None else None
         report.activities.append(activity.name if activity else "")
-        plans.append(_steps(params, activity) if activity else [])
+        plans.append(_steps(params, activity, terrain=terrain) if activity else [])
         planes.append(plane)
     total = max(1, sum(len(p) for p in plans))
     done = 0
@@ -166,7 +183,7 @@ def clean_document(doc: Document, params: CleanParams | None = None,
             track = out.tracks[index]
             # the shared plane and the known totals; no posterior standard deviations (the batch keeps none)
             optional = tool.optional_inputs(plane=plane, before=before, want_std=False,
-                                            inserted_marker=inserted_marker)
+                                            inserted_marker=inserted_marker, terrain=terrain)
             proposal = tool.function(track, step_params, track_index=index, stats_params=params.stats_params,
                                      **optional)
             if not proposal.is_noop():

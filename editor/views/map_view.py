@@ -43,7 +43,7 @@ class ScaleBar(pg.GraphicsWidgetAnchor, pg.GraphicsObject):
         self.prepareGeometryChange()
         self.update()
 
-    def boundingRect(self) -> QtCore.QRectF:  # noqa: N802 (Qt override)
+    def boundingRect(self) -> QtCore.QRectF:
         return QtCore.QRectF(-4, -70, 200, 76)
 
     def paint(self, painter: QtGui.QPainter, *args) -> None:
@@ -88,6 +88,7 @@ class MapView(LinkedPlot):
     def __init__(self, state: EditorState, palette: Palette, parent=None) -> None:
         super().__init__(state, palette, parent)
         self.projection = LocalProjection(0.0, 0.0)
+        self.relief = None  # a ReliefLayer once terrain is set (set_terrain)
         self.box_mode = False
         self.units = METRIC
         self.view_box.setAspectLocked(True, 1.0)
@@ -135,6 +136,21 @@ class MapView(LinkedPlot):
 
     def set_projection(self, projection: LocalProjection) -> None:
         self.projection = projection
+        if self.relief is not None:
+            self.relief.refresh()
+
+    def set_terrain(self, terrain) -> None:
+        """Draw shaded relief of ``terrain`` (an ``editor.terrain.Terrain``) under the track; None: none."""
+        if self.relief is None:
+            from .relief_layer import ReliefLayer
+
+            self.relief = ReliefLayer(self)
+        self.relief.set_terrain(terrain)
+
+    def set_relief_visible(self, visible: bool) -> None:
+        """The View menu's switch for the shaded relief (kept when terrain changes)."""
+        if self.relief is not None:
+            self.relief.set_enabled(visible)
 
     def track_xy(self, geometry: TrackGeometry):
         return geometry.x_m, geometry.y_m

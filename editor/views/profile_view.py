@@ -53,6 +53,11 @@ class ProfileView(LinkedPlot):
         self.band_item = pg.FillBetweenItem(self.band_upper, self.band_lower, brush=pg.mkBrush(p.rgba("band", 60)))
         self.band_item.setZValue(12)
         self.view_box.addItem(self.band_item, ignoreBounds=True)
+        # the terrain's own profile under an elevation-from-terrain preview (the ground, for comparison)
+        self.terrain_item = pg.PlotCurveItem(connect="finite", pen=pg.mkPen(
+            p.qcolor("ink", 140), width=1.2, style=QtCore.Qt.PenStyle.DashLine))
+        self.terrain_item.setZValue(13)
+        self.view_box.addItem(self.terrain_item, ignoreBounds=True)
         crosshair_pen = pg.mkPen(p.qcolor("hover", 150), width=1, style=QtCore.Qt.PenStyle.DotLine)
         self.v_line = pg.InfiniteLine(angle=90, movable=False, pen=crosshair_pen)
         self.h_line = pg.InfiniteLine(angle=0, movable=False, pen=crosshair_pen)
@@ -209,6 +214,7 @@ class ProfileView(LinkedPlot):
     def refresh_layers(self) -> None:
         super().refresh_layers()
         proposal = self.state.preview
+        self._draw_terrain(proposal)
         sigma = None if proposal is None else proposal.sigma_v_m
         if sigma is None or self._proposal_xy is None or proposal.track != self.state.track:
             self.band_upper.setData([], [])
@@ -227,6 +233,19 @@ class ProfileView(LinkedPlot):
         self.band_upper.setData(xs, take_with_breaks(py + half, rows), connect="finite")
         self.band_upper.blockSignals(False)
         self.band_lower.setData(xs, take_with_breaks(py - half, rows), connect="finite")
+
+    def _draw_terrain(self, proposal) -> None:
+        """The terrain heights a proposal carries (``info["terrain_profile"]``, per proposed row) as a line."""
+        ground = None if proposal is None else proposal.info.get("terrain_profile")
+        if (ground is None or self._proposal_xy is None or proposal.track != self.state.track
+                or len(ground) != len(self._proposal_xy[0])):
+            self.terrain_item.setData([], [])
+            return
+        px, _ = self._proposal_xy
+        gy = np.asarray(ground, dtype=np.float64) / self.units.short_m
+        rect, pixel = self._visible()
+        rows = lod_indices(px, gy, rect, pixel, columns=True)
+        self.terrain_item.setData(take_with_breaks(px, rows), take_with_breaks(gy, rows), connect="finite")
 
     # --- hover and readout ------------------------------------------------------------------------
     def _row_at_x(self, x_value: float) -> int | None:

@@ -165,7 +165,7 @@ def test_progress_is_reported_in_order():
 
 
 def test_registry_names_every_tool():
-    assert set(TOOLS) == {"smooth", "despike", "fill_gaps", "collapse_stops", "simplify"}
+    assert set(TOOLS) == {"smooth", "despike", "fill_gaps", "collapse_stops", "elevation", "simplify"}
     for key, tool in TOOLS.items():
         assert callable(tool.function) and tool.label and tool.key == key
         tool.params()  # every parameter class has documented defaults
