@@ -18,6 +18,7 @@ from ..panels.legend import LegendPanel
 from ..panels.totals_panel import TotalsPanel
 from ..panels.track_list import TrackList
 from .actions import build_actions
+from .background_menu import BackgroundController
 from .editing import EditOps
 from .files import FileOps
 from .panes import ViewPane
@@ -114,6 +115,7 @@ class MainWindow(FileOps, EditOps, QtWidgets.QMainWindow):
 
         self._init_editing()
         self.actions_ = build_actions(self)
+        self.background_controller = BackgroundController(self)  # View ▸ Background and the map's layer
         self._connect()
         self._apply_display_settings()
         self._restore_layout()

@@ -1,0 +1,166 @@
+"""A background of Web Mercator tiles (from the web or an archive), warped into the map's metres.
+
+The layer keeps decoded tiles in a bounded memory cache, asks its :class:`TileLoader` for the tiles
+a view needs (centre first), and while a tile is on its way draws the part of a coarser tile it
+already has. Each tile is drawn as the cells of its :class:`~editor.tiles.warp.TileWarp`, split
+finely enough that the affine error stays under :data:`ERROR_BUDGET_PX` screen pixels.
+"""
+from __future__ import annotations
+
+from collections import OrderedDict
+
+from PySide6 import QtCore, QtGui
+
+from ...geo.projection import LocalProjection
+from ...tiles.mercator import wrap_x, zoom_for_resolution
+from ...tiles.warp import TileWarp, visible_tiles
+from .layer import BackgroundLayer
+from .loader import TileKey, TileLoader
+
+#: Share of a screen pixel the warp may be off; the rest of the pixel is left to image resampling.
+ERROR_BUDGET_PX = 0.5
+#: Decoded tiles kept in memory (bytes of image data).
+MEMORY_CACHE_BYTES = 96 * 1024 * 1024
+#: Warps kept (they depend only on the projection and the tile).
+WARP_CACHE = 2048
+#: How many levels up a coarser tile may stand in for a missing one.
+FALLBACK_LEVELS = 3
+
+
+class TileLayer(BackgroundLayer):
+    """Tiles from ``loader``; ``min_zoom``/``max_zoom`` are what the source offers (beyond ``max_zoom``
+    its finest tiles are enlarged)."""
+
+    def __init__(self, loader: TileLoader, attribution: str, min_zoom: int = 0, max_zoom: int = 19,
+                 memory_bytes: int = MEMORY_CACHE_BYTES) -> None:
+        super().__init__()
+        self.loader = loader
+        self._attribution = attribution
+        self.min_zoom = min_zoom
+        self.max_zoom = max_zoom
+        self.memory_bytes = memory_bytes
+        self._images: OrderedDict[TileKey, QtGui.QImage] = OrderedDict()
+        self._image_bytes = 0
+        self._absent: set[TileKey] = set()
+        self._warps: OrderedDict[tuple[int, int, int], TileWarp] = OrderedDict()
+        self._shown: list[tuple[int, int, int]] = []  # (z, x unwrapped, y)
+        self._asked: set[TileKey] = set()
+        self.zoom = min_zoom
+        #: 2 for high-DPI ("@2x") tiles, which cover a tile's area with twice the pixels.
+        self.tile_scale = 1.0
+        self.status = ""
+        loader.tile_loaded.connect(self._tile_loaded)
+        loader.tile_absent.connect(self._tile_absent)
+        loader.status_changed.connect(self._status)
+
+    # --- the view -------------------------------------------------------------------------------------
+    def attribution(self) -> str:
+        return self._attribution
+
+    def set_projection(self, projection: LocalProjection) -> None:
+        self._warps.clear()
+        super().set_projection(projection)
+        self._rect = QtCore.QRectF()  # the next set_view recomputes the tiles in the new projection
+
+    def set_view(self, rect: QtCore.QRectF, metres_per_px: float, device_ratio: float = 1.0) -> bool:
+        if not super().set_view(rect, metres_per_px, device_ratio) or rect.isEmpty() or not metres_per_px > 0:
+            return False
+        centre = rect.center()
+        lat, _ = self.projection.to_latlon(centre.x(), centre.y())
+        z = zoom_for_resolution(metres_per_px, float(lat), self.min_zoom, self.max_zoom, device_ratio / self.tile_scale)
+        box = (rect.left(), rect.top(), rect.right(), rect.bottom())
+        self.zoom, self._shown = visible_tiles(self.projection, box, z, self.min_zoom)
+        wanted = []
+        for z, x, y in self._shown:
+            key = (z, wrap_x(x, z), y)
+            if key in self._images:
+                self._images.move_to_end(key)
+            elif key not in self._absent:
+                wanted.append(key)
+        if set(wanted) != self._asked:
+            self._asked = set(wanted)
+            self.loader.want(wanted)
+        return True
+
+    def all_shown_settled(self) -> bool:
+        """Every tile the view needs has arrived or is known to be missing (for tests and benchmarks)."""
+        return all((z, wrap_x(x, z), y) in self._images or (z, wrap_x(x, z), y) in self._absent
+                   for z, x, y in self._shown)
+
+    def shown_loaded(self) -> int:
+        return sum((z, wrap_x(x, z), y) in self._images for z, x, y in self._shown)
+
+    # --- arrivals -------------------------------------------------------------------------------------
+    def _tile_loaded(self, key: TileKey, image: QtGui.QImage) -> None:
+        key = tuple(key)
+        old = self._images.pop(key, None)
+        if old is not None:
+            self._image_bytes -= old.sizeInBytes()
+        self._images[key] = image
+        self._image_bytes += image.sizeInBytes()
+        while self._image_bytes > self.memory_bytes and len(self._images) > 1:
+            _, dropped = self._images.popitem(last=False)
+            self._image_bytes -= dropped.sizeInBytes()
+        self._asked.discard(key)
+        self.update()
+
+    def _tile_absent(self, key: TileKey) -> None:
+        self._absent.add(tuple(key))
+        self._asked.discard(tuple(key))
+
+    def _status(self, text: str) -> None:
+        self.status = text
+        self.status_changed.emit(text)
+
+    def shutdown(self) -> None:
+        self.loader.shutdown()
+
+    # --- drawing --------------------------------------------------------------------------------------
+    def _warp(self, z: int, x: int, y: int) -> TileWarp:
+        key = (z, x, y)
+        warp = self._warps.get(key)
+        if warp is None:
+            warp = self._warps[key] = TileWarp(self.projection, z, x, y)
+            if len(self._warps) > WARP_CACHE:
+                self._warps.popitem(last=False)
+        else:
+            self._warps.move_to_end(key)
+        return warp
+
+    def _stand_in(self, z: int, x: int, y: int):
+        """A coarser tile already in memory and the part of it that covers tile ``(z, x, y)``."""
+        for up in range(1, FALLBACK_LEVELS + 1):
+            if z - up < self.min_zoom:
+                break
+            f = 2 ** up
+            px, py = x // f, y // f
+            image = self._images.get((z - up, wrap_x(px, z - up), py))
+            if image is not None:
+                return image, ((x - px * f) / f, (y - py * f) / f, 1.0 / f)
+        return None, None
+
+    def paint(self, painter: QtGui.QPainter, *args) -> None:
+        if not self._shown:
+            return
+        painter.setRenderHint(QtGui.QPainter.RenderHint.SmoothPixmapTransform, True)
+        painter.setRenderHint(QtGui.QPainter.RenderHint.Antialiasing, False)
+        base = painter.transform()
+        tolerance_m = ERROR_BUDGET_PX * self.metres_per_px
+        for z, x, y in reversed(self._shown):  # centre last: on top where tiles overlap by a hair
+            image = self._images.get((z, wrap_x(x, z), y))
+            part = (0.0, 0.0, 1.0)
+            if image is None:
+                image, part = self._stand_in(z, x, y)
+                if image is None:
+                    continue
+            w, h = image.width(), image.height()
+            ox, oy, scale = part
+            for cell in self._warp(z, x, y).cells(tolerance_m):
+                a, b, c, d, tx, ty = cell.affine
+                painter.setTransform(QtGui.QTransform(a, b, c, d, tx, ty) * base)
+                target = QtCore.QRectF(cell.u0, cell.v0, cell.u1 - cell.u0, cell.v1 - cell.v0)
+                source = QtCore.QRectF((ox + cell.u0 * scale) * w, (oy + cell.v0 * scale) * h,
+                                       (cell.u1 - cell.u0) * scale * w, (cell.v1 - cell.v0) * scale * h)
+                painter.drawImage(target, image, source)
+        painter.setTransform(base)
+
