@@ -19,7 +19,7 @@ BLOCKED_IMPORT = textwrap.dedent("""
     sys.meta_path.insert(0, BlockQt())
     import editor
     names = ["editor.cli", "editor.cli_clean", "editor.recovery", "editor.app_entry", "editor.__main__"]
-    for pkg in ("editor.model", "editor.io", "editor.geo", "editor.processing"):
+    for pkg in ("editor.model", "editor.io", "editor.geo", "editor.processing", "editor.tiles"):
         module = importlib.import_module(pkg)
         names += [m.name for m in pkgutil.walk_packages(module.__path__, pkg + ".")]
     imported = []
@@ -45,7 +45,8 @@ def test_core_imports_without_qt():
     assert result.returncode == 0, result.stderr
     count, names = result.stdout.split(" ", 1)
     for required in ("editor.cli", "editor.cli_clean", "editor.recovery", "editor.model.document", "editor.io.gpx",
-                     "editor.geo.distance", "editor.processing.stats", "editor.processing.smoothing"):
+                     "editor.geo.distance", "editor.processing.stats", "editor.processing.smoothing",
+                     "editor.tiles.warp", "editor.tiles.archives", "editor.tiles.catalogue"):
         assert required in names.split()
 
 

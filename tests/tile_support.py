@@ -108,3 +108,39 @@ class TileServer:
     def stop(self) -> None:
         self.httpd.shutdown()
         self.httpd.server_close()
+
+
+def write_mbtiles(path, tiles: dict, attribution: str = "Reference lines (generated)") -> None:
+    """An MBTiles 1.3 file (``metadata`` and ``tiles`` tables, rows counted from the south) holding
+    ``tiles[(z, x, y)] = png bytes`` (x, y in the XYZ scheme)."""
+    import sqlite3
+
+    db = sqlite3.connect(str(path))
+    db.execute("CREATE TABLE metadata (name TEXT, value TEXT)")
+    db.execute("CREATE TABLE tiles (zoom_level INTEGER, tile_column INTEGER, tile_row INTEGER, tile_data BLOB)")
+    zooms = [k[0] for k in tiles]
+    db.executemany("INSERT INTO metadata VALUES (?, ?)", [
+        ("name", "reference"), ("format", "png"), ("attribution", attribution),
+        ("minzoom", str(min(zooms))), ("maxzoom", str(max(zooms)))])
+    db.executemany("INSERT INTO tiles VALUES (?, ?, ?, ?)",
+                   [(z, x, 2 ** z - 1 - y, data) for (z, x, y), data in tiles.items()])
+    db.commit()
+    db.close()
+
+
+def write_pmtiles(path, tiles: dict, attribution: str = "Reference lines (generated)") -> None:
+    """A PMTiles v3 raster archive written with the ``pmtiles`` library's writer."""
+    from pmtiles.tile import Compression, TileType, zxy_to_tileid
+    from pmtiles.writer import Writer
+
+    zooms = [k[0] for k in tiles]
+    with open(path, "wb") as f:
+        writer = Writer(f)
+        for tile_id, data in sorted((zxy_to_tileid(*k), v) for k, v in tiles.items()):
+            writer.write_tile(tile_id, data)
+        writer.finalize({"tile_type": TileType.PNG, "tile_compression": Compression.NONE,
+                         "min_zoom": min(zooms), "max_zoom": max(zooms),
+                         "min_lon_e7": -1800000000, "min_lat_e7": -850000000,
+                         "max_lon_e7": 1800000000, "max_lat_e7": 850000000,
+                         "center_zoom": min(zooms), "center_lon_e7": 0, "center_lat_e7": 0},
+                        {"name": "reference", "attribution": attribution})
