@@ -70,11 +70,13 @@ def reference_tile(z: int, x: int, y: int, size: int = 256) -> np.ndarray:
 class TileServer:
     """``http.server`` on 127.0.0.1 in a thread, serving ``/{z}/{x}/{y}.png`` reference tiles.
 
-    ``requests`` counts the requests; ``max_age_s`` goes into Cache-Control.
+    ``requests`` counts the requests; ``max_age_s`` goes into Cache-Control; a ``failing`` server
+    answers every request with 503 (overloaded).
     """
 
-    def __init__(self, max_age_s: int = 86400) -> None:
+    def __init__(self, max_age_s: int = 86400, failing: bool = False) -> None:
         self.requests: list[str] = []
+        self.failing = failing
         self.user_agents: set[str] = set()
         self.max_age_s = max_age_s
         server = self
@@ -83,6 +85,9 @@ class TileServer:
             def do_GET(self):  # noqa: N802 (http.server's name)
                 server.requests.append(self.path)
                 server.user_agents.add(self.headers.get("User-Agent", ""))
+                if server.failing:
+                    self.send_error(503)
+                    return
                 try:
                     z, x, y = (int(p) for p in self.path.strip("/").removesuffix(".png").split("/"))
                 except ValueError:

@@ -140,7 +140,8 @@ class MapView(LinkedPlot):
             self.background.setOpacity(self.background_opacity)
 
     def _update_background(self) -> None:
-        if self.background is not None:
+        # Nothing shown yet (no document): ask for no tiles, so starting the editor fetches nothing.
+        if self.background is not None and (len(self.geometry) or len(self.waypoint_item.data)):
             px = self.view_box.viewPixelSize()[0]
             self.background.set_view(self.view_box.viewRect(), px, self.devicePixelRatioF())
 

@@ -105,7 +105,7 @@ class WebWorker(TileWorker):
         self._waiting: set[TileKey] = set()  # failed online: asked again when the server is back
         self._offline = False
         self._backoff_s = 0.0
-        self._probe_due = True
+        self._probe_due = False
         self._timer: QtCore.QTimer | None = None
 
     @QtCore.Slot()
@@ -127,21 +127,20 @@ class WebWorker(TileWorker):
         for key in self._queue:
             if key in self._pending:
                 continue
-            host = self.template.host
-            if self._in_flight[host] >= PER_HOST:
+            if self._in_flight[self.template.host] >= PER_HOST:
                 still.append(key)
-                continue
-            if self._offline and not self._probe_due:
-                if key in self._cache_only_tried:
-                    self._waiting.add(key)
-                    continue
-                self._request(key, cache_only=True)
-            else:
-                self._probe_due = False if self._offline else self._probe_due
+            elif not self._offline:
                 self._request(key, cache_only=False)
+            elif self._probe_due:
+                self._probe_due = False  # one request asks whether the server is back
+                self._request(key, cache_only=False, probe=True)
+            elif key in self._cache_only_tried:
+                self._waiting.add(key)
+            else:
+                self._request(key, cache_only=True)
         self._queue = still
 
-    def _request(self, key: TileKey, cache_only: bool) -> None:
+    def _request(self, key: TileKey, cache_only: bool, probe: bool = False) -> None:
         z, x, y = key
         request = QtNetwork.QNetworkRequest(QtCore.QUrl(self.template.tile_url(z, x, y, self.high_dpi)))
         request.setHeader(QtNetwork.QNetworkRequest.KnownHeaders.UserAgentHeader, USER_AGENT)
@@ -154,9 +153,10 @@ class WebWorker(TileWorker):
         host = self.template.host
         self._in_flight[host] += 1
         self._pending[key] = reply
-        reply.finished.connect(lambda: self._finished(key, reply, cache_only, host))
+        reply.finished.connect(lambda: self._finished(key, reply, cache_only, host, probe))
 
-    def _finished(self, key: TileKey, reply: QtNetwork.QNetworkReply, cache_only: bool, host: str) -> None:
+    def _finished(self, key: TileKey, reply: QtNetwork.QNetworkReply, cache_only: bool, host: str,
+                  probe: bool) -> None:
         self._in_flight[host] -= 1
         self._pending.pop(key, None)
         error = reply.error()
@@ -180,11 +180,13 @@ class WebWorker(TileWorker):
         elif cache_only:
             self._waiting.add(key)  # not saved: blank until the server answers again
         else:
-            self._went_offline()
+            self._went_offline(probe)
             self._request(key, cache_only=True)  # a saved copy, however old, beats a blank
         self._pump()
 
-    def _went_offline(self) -> None:
+    def _went_offline(self, probe: bool) -> None:
+        if self._offline and not probe:
+            return  # a request sent before the first failure: the back-off already runs
         self._backoff_s = FIRST_BACKOFF_S if not self._offline else min(self._backoff_s * 2, MAX_BACKOFF_S)
         self._offline = True
         self._probe_due = False
