@@ -26,6 +26,8 @@ from .mercator import lonlat_to_world, tile_range, world_to_lonlat
 SAMPLES = 9
 #: Deepest split of a tile (4**6 cells); reached only for tiles far larger than the view needs.
 MAX_DEPTH = 6
+#: Parts of tiles farther east or west of the projection's central meridian are not drawn.
+FARTHEST_LON_DEG = 60.0
 #: Most tiles one view requests; a view needing more takes the next coarser zoom.
 MAX_TILES = 160
 
@@ -59,7 +61,11 @@ class TileWarp:
     def _to_metres(self, u: np.ndarray, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         n = 2 ** self.z
         lon, lat = world_to_lonlat((self.x + u) / n, (self.y + v) / n)
-        return self.projection.to_xy(lat, lon)
+        x, y = self.projection.to_xy(lat, lon)
+        # Transverse Mercator degenerates far from its central meridian: leave such parts out.
+        far = np.abs((lon - self.projection.lon0 + 180.0) % 360.0 - 180.0) > FARTHEST_LON_DEG
+        x[far] = np.nan
+        return x, y
 
     def _fit(self, u0: float, v0: float, u1: float, v1: float) -> WarpCell:
         s = np.linspace(0.0, 1.0, SAMPLES)
@@ -81,14 +87,29 @@ class TileWarp:
                   float(coef_x[2]), float(coef_y[2]))
         return WarpCell(u0, v0, u1, v1, affine, bound)
 
-    def cells(self, tolerance_m: float) -> list[WarpCell]:
-        """Cells covering the tile whose affine is within ``tolerance_m`` (split as needed, kept for reuse)."""
+    def cells(self, tolerance_m: float, within: tuple[float, float, float, float] | None = None,
+              max_depth: int = MAX_DEPTH) -> list[WarpCell]:
+        """Cells covering the tile whose affine is within ``tolerance_m`` (split as needed, kept for reuse).
+
+        ``within``: only cells meeting this box ``(X0, Y0, X1, Y1)`` of world fractions (the view's,
+        from :func:`visible_tiles`), so an enlarged coarse tile is refined only where it is seen.
+        ``max_depth`` limits the splitting.
+        """
+        if within is not None:
+            n = 2 ** self.z
+            within = (within[0] * n - self.x, within[1] * n - self.y, within[2] * n - self.x, within[3] * n - self.y)
         out: list[WarpCell] = []
-        self._collect(self.root, tolerance_m, 0, out)
+        self._collect(self.root, tolerance_m, 0, out, within, max_depth)
         return out
 
-    def _collect(self, cell: WarpCell, tolerance_m: float, depth: int, out: list[WarpCell]) -> None:
-        if cell.error_m <= tolerance_m or depth >= MAX_DEPTH:
+    def _collect(self, cell: WarpCell, tolerance_m: float, depth: int, out: list[WarpCell],
+                 within: tuple[float, float, float, float] | None, max_depth: int) -> None:
+        if within is not None and (cell.u1 < within[0] or cell.u0 > within[2] or cell.v1 < within[1]
+                                   or cell.v0 > within[3]):
+            return
+        if not math.isfinite(cell.error_m) and depth >= MAX_DEPTH:
+            return  # part of the tile lies where the projection breaks down (a quarter globe away)
+        if cell.error_m <= tolerance_m or depth >= max_depth:
             if math.isfinite(cell.error_m):
                 out.append(cell)
             return
@@ -97,7 +118,7 @@ class TileWarp:
             cell.children = [self._fit(cell.u0, cell.v0, um, vm), self._fit(um, cell.v0, cell.u1, vm),
                              self._fit(cell.u0, vm, um, cell.v1), self._fit(um, vm, cell.u1, cell.v1)]
         for child in cell.children:
-            self._collect(child, tolerance_m, depth + 1, out)
+            self._collect(child, tolerance_m, depth + 1, out, within, max_depth)
 
 
 def view_lonlat(projection: LocalProjection, rect: tuple[float, float, float, float],
@@ -114,15 +135,16 @@ def view_lonlat(projection: LocalProjection, rect: tuple[float, float, float, fl
 
 
 def visible_tiles(projection: LocalProjection, rect: tuple[float, float, float, float], z: int,
-                  min_zoom: int = 0) -> tuple[int, list[tuple[int, int, int]]]:
-    """The zoom actually used and the tiles ``(z, x_unwrapped, y)`` covering the view, centre first.
+                  min_zoom: int = 0) -> tuple[int, list[tuple[int, int, int]], tuple[float, float, float, float]]:
+    """The zoom actually used, the tiles ``(z, x_unwrapped, y)`` covering the view (centre first)
+    and the view's box of world fractions ``(X0, Y0, X1, Y1)`` (X unwrapped).
 
     The sampled view outline is padded by 2 % of its span, more than the bulge of a view edge
     between samples. When more than :data:`MAX_TILES` would be needed, coarser zooms are taken.
     """
     lon, lat = view_lonlat(projection, rect)
     if not len(lon):
-        return z, []
+        return z, [], (0.0, 0.0, 0.0, 0.0)
     wx, wy = lonlat_to_world(lon, lat)
     pad_x, pad_y = 0.02 * (np.ptp(wx) + 1e-12), 0.02 * (np.ptp(wy) + 1e-12)
     wx = np.array([wx.min() - pad_x, wx.max() + pad_x])
@@ -136,4 +158,4 @@ def visible_tiles(projection: LocalProjection, rect: tuple[float, float, float, 
     cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
     tiles = [(z, x, y) for x in range(x0, x1 + 1) for y in range(y0, y1 + 1)]
     tiles.sort(key=lambda t: (t[1] - cx) ** 2 + (t[2] - cy) ** 2)
-    return z, tiles
+    return z, tiles, (float(wx[0]), float(wy[0]), float(wx[1]), float(wy[1]))

@@ -65,7 +65,7 @@ def test_large_tiles_are_split_and_small_ones_are_not():
 def test_visible_tiles_cover_the_view_centre_first():
     projection = LocalProjection(47.0, 9.0)
     rect = (-1500.0, -1000.0, 1500.0, 1000.0)
-    z, tiles = visible_tiles(projection, rect, 15)
+    z, tiles, _ = visible_tiles(projection, rect, 15)
     assert z == 15
     wx, wy = lonlat_to_world(9.0, 47.0)
     assert tiles[0] == (15, int(wx * 2 ** 15), int(wy * 2 ** 15))
@@ -76,13 +76,25 @@ def test_visible_tiles_cover_the_view_centre_first():
     for px, py in zip((cx * 2 ** 15).astype(int), (cy * 2 ** 15).astype(int)):
         assert (15, px, py) in tiles
     # A view needing hundreds of tiles takes a coarser zoom instead.
-    z_far, many = visible_tiles(projection, (-50_000.0, -50_000.0, 50_000.0, 50_000.0), 17)
+    z_far, many, _ = visible_tiles(projection, (-50_000.0, -50_000.0, 50_000.0, 50_000.0), 17)
     assert z_far < 17 and len(many) <= 160
 
 
 def test_view_across_the_180th_meridian_unwraps_columns():
     projection = LocalProjection(65.0, 180.0)
-    z, tiles = visible_tiles(projection, (-2000.0, -2000.0, 2000.0, 2000.0), 14)
+    z, tiles, _ = visible_tiles(projection, (-2000.0, -2000.0, 2000.0, 2000.0), 14)
     xs = {t[1] for t in tiles}
     assert min(xs) < 2 ** 14 <= max(xs)  # the columns run on past the world's east edge, without a jump
     assert max(xs) - min(xs) < 10
+
+
+def test_an_enlarged_coarse_tile_is_refined_only_where_the_view_is():
+    projection = LocalProjection(47.005, 9.01)
+    _, _, box = visible_tiles(projection, (-650.0, -400.0, 650.0, 400.0), 0)
+    warp = TileWarp(projection, 0, 0, 0)  # the whole world in one tile, shown at about 1 m per pixel
+    cells = warp.cells(0.5, within=box, max_depth=MAX_DEPTH + 15)
+    assert 0 < len(cells) < 50
+    covered = sum(max(0.0, min(c.u1, box[2]) - max(c.u0, box[0])) * max(0.0, min(c.v1, box[3]) - max(c.v0, box[1]))
+                  for c in cells)
+    assert covered == pytest.approx((box[2] - box[0]) * (box[3] - box[1]), rel=1e-9)
+    assert all(c.error_m <= 0.5 for c in cells)

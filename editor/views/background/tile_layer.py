@@ -13,7 +13,7 @@ from PySide6 import QtCore, QtGui
 
 from ...geo.projection import LocalProjection
 from ...tiles.mercator import wrap_x, zoom_for_resolution
-from ...tiles.warp import TileWarp, visible_tiles
+from ...tiles.warp import MAX_DEPTH, TileWarp, visible_tiles
 from .layer import BackgroundLayer
 from .loader import TileKey, TileLoader
 
@@ -44,8 +44,10 @@ class TileLayer(BackgroundLayer):
         self._absent: set[TileKey] = set()
         self._warps: OrderedDict[tuple[int, int, int], TileWarp] = OrderedDict()
         self._shown: list[tuple[int, int, int]] = []  # (z, x unwrapped, y)
+        self._world_box = (0.0, 0.0, 0.0, 0.0)
         self._asked: set[TileKey] = set()
         self.zoom = min_zoom
+        self._wanted_zoom = min_zoom  # the zoom the view's scale asks for, beyond what the source has
         #: 2 for high-DPI ("@2x") tiles, which cover a tile's area with twice the pixels.
         self.tile_scale = 1.0
         self.status = ""
@@ -69,7 +71,8 @@ class TileLayer(BackgroundLayer):
         lat, _ = self.projection.to_latlon(centre.x(), centre.y())
         z = zoom_for_resolution(metres_per_px, float(lat), self.min_zoom, self.max_zoom, device_ratio / self.tile_scale)
         box = (rect.left(), rect.top(), rect.right(), rect.bottom())
-        self.zoom, self._shown = visible_tiles(self.projection, box, z, self.min_zoom)
+        self._wanted_zoom = zoom_for_resolution(metres_per_px, float(lat), 0, 30, device_ratio / self.tile_scale)
+        self.zoom, self._shown, self._world_box = visible_tiles(self.projection, box, z, self.min_zoom)
         wanted = []
         for z, x, y in self._shown:
             key = (z, wrap_x(x, z), y)
@@ -146,6 +149,9 @@ class TileLayer(BackgroundLayer):
         painter.setRenderHint(QtGui.QPainter.RenderHint.Antialiasing, False)
         base = painter.transform()
         tolerance_m = ERROR_BUDGET_PX * self.metres_per_px
+        within = self._world_box
+        # A coarse tile enlarged far beyond its zoom (an archive's last level) may need deeper splits.
+        depth = MAX_DEPTH + max(0, self._wanted_zoom - self.zoom)
         for z, x, y in reversed(self._shown):  # centre last: on top where tiles overlap by a hair
             image = self._images.get((z, wrap_x(x, z), y))
             part = (0.0, 0.0, 1.0)
@@ -155,7 +161,7 @@ class TileLayer(BackgroundLayer):
                     continue
             w, h = image.width(), image.height()
             ox, oy, scale = part
-            for cell in self._warp(z, x, y).cells(tolerance_m):
+            for cell in self._warp(z, x, y).cells(tolerance_m, within, depth):
                 a, b, c, d, tx, ty = cell.affine
                 painter.setTransform(QtGui.QTransform(a, b, c, d, tx, ty) * base)
                 target = QtCore.QRectF(cell.u0, cell.v0, cell.u1 - cell.u0, cell.v1 - cell.v0)
