@@ -5,8 +5,8 @@ the layer's one status line. Other kinds of background plug in through :meth:`se
 """
 from __future__ import annotations
 
+from collections.abc import Callable
 from pathlib import Path
-from typing import Callable
 
 from PySide6 import QtCore, QtGui, QtWidgets
 

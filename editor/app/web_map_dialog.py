@@ -81,7 +81,7 @@ class WebMapDialog(QtWidgets.QDialog):
         entry = self._entry()
         needs_key = entry is not None and entry.key_field is not None
         self.key_edit.setEnabled(needs_key and self.use_catalogue.isChecked())
-        self.key_edit.setText(self.stored.key_for(entry.name) if needs_key else "")
+        self.key_edit.setText(self.stored.key_for(entry.name) if entry is not None and needs_key else "")
 
     def _mode_changed(self) -> None:
         custom = self.use_custom.isChecked()

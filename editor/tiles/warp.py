@@ -47,7 +47,7 @@ class WarpCell:
     v1: float
     affine: tuple[float, float, float, float, float, float]
     error_m: float
-    children: list["WarpCell"] | None = field(default=None, repr=False)
+    children: list[WarpCell] | None = field(default=None, repr=False)
 
 
 class TileWarp:

@@ -10,8 +10,13 @@ import socket
 import numpy as np
 import pytest
 from PySide6 import QtCore, QtGui, QtWidgets
-from tile_support import (MERIDIAN_STEP, PARALLEL_STEP, TileServer, png_bytes, reference_tile, write_mbtiles,
-                          write_pmtiles)
+from tile_support import (
+    TileServer,
+    png_bytes,
+    reference_tile,
+    write_mbtiles,
+    write_pmtiles,
+)
 
 from editor.app.web_map_dialog import WebMapChoice
 from editor.model import Document, PointTable, Track
@@ -125,6 +130,10 @@ def test_tiles_come_from_the_cache_when_the_server_is_gone(qtbot, dialogs, setti
     settle_tiles(qtbot, window)
     first = window.map_view.background
     assert first.shown_loaded() == len(first._shown) > 0
+    # The network manager was made, and works, on the loader's own thread, not on the UI thread.
+    ui_thread = QtWidgets.QApplication.instance().thread()
+    worker = first.loader.worker
+    assert worker.thread() is not ui_thread and worker._nam.thread() is worker.thread()
     assert server.user_agents == {f"Trackwright/{__import__('editor').__version__} (GPS track editor; map background)"}
     view_range = window.map_view.view_box.viewRect()
     window.close()

@@ -5,7 +5,12 @@ import sqlite3
 import pytest
 from tile_support import png_bytes, reference_tile, write_mbtiles, write_pmtiles
 
-from editor.tiles.archives import ArchiveError, MBTilesArchive, PMTilesArchive, open_archive
+from editor.tiles.archives import (
+    ArchiveError,
+    MBTilesArchive,
+    PMTilesArchive,
+    open_archive,
+)
 
 TILES = {(z, x, y): png_bytes(reference_tile(z, x, y, size=32)) for z, x, y in
          [(3, 4, 2), (3, 4, 3), (4, 8, 5), (4, 9, 5), (0, 0, 0)]}

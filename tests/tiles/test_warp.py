@@ -8,7 +8,11 @@ import pytest
 from pyproj import CRS, Transformer
 
 from editor.geo.projection import LocalProjection
-from editor.tiles.mercator import EARTH_RADIUS_M, lonlat_to_world, tile_ground_resolution_m
+from editor.tiles.mercator import (
+    EARTH_RADIUS_M,
+    lonlat_to_world,
+    tile_ground_resolution_m,
+)
 from editor.tiles.warp import MAX_DEPTH, TileWarp, visible_tiles
 
 HALF_WORLD_M = math.pi * EARTH_RADIUS_M
@@ -82,7 +86,7 @@ def test_visible_tiles_cover_the_view_centre_first():
 
 def test_view_across_the_180th_meridian_unwraps_columns():
     projection = LocalProjection(65.0, 180.0)
-    z, tiles, _ = visible_tiles(projection, (-2000.0, -2000.0, 2000.0, 2000.0), 14)
+    _, tiles, _ = visible_tiles(projection, (-2000.0, -2000.0, 2000.0, 2000.0), 14)
     xs = {t[1] for t in tiles}
     assert min(xs) < 2 ** 14 <= max(xs)  # the columns run on past the world's east edge, without a jump
     assert max(xs) - min(xs) < 10

@@ -19,7 +19,7 @@ from pathlib import Path
 from PySide6 import QtCore, QtGui, QtNetwork
 
 from ... import __version__
-from ...tiles.archives import ArchiveError, open_archive
+from ...tiles.archives import ArchiveError, MBTilesArchive, PMTilesArchive, open_archive
 from ...tiles.templates import TileTemplate
 
 #: Requests in flight per host (the tile usage policies of public servers ask for few).
@@ -69,7 +69,7 @@ class TileWorker(QtCore.QObject):
         with self._wish_lock:
             wish, self._wish = self._wish, None
         if wish is not None:
-            self._queue = [tuple(k) for k in wish]
+            self._queue = [(int(k[0]), int(k[1]), int(k[2])) for k in wish]
             self._pump()
 
     @QtCore.Slot()
@@ -106,7 +106,8 @@ class WebWorker(TileWorker):
         self._offline = False
         self._backoff_s = 0.0
         self._probe_due = False
-        self._timer: QtCore.QTimer | None = None
+        self._timer = QtCore.QTimer(self, singleShot=True)  # moves to the worker thread with its parent
+        self._timer.timeout.connect(self._probe)
 
     @QtCore.Slot()
     def start(self) -> None:
@@ -117,8 +118,6 @@ class WebWorker(TileWorker):
         cache.setMaximumCacheSize(self.cache_bytes)
         self._nam.setCache(cache)
         self._nam.setTransferTimeout(TIMEOUT_MS)
-        self._timer = QtCore.QTimer(self, singleShot=True)
-        self._timer.timeout.connect(self._probe)
 
     def _pump(self) -> None:
         if self._nam is None:
@@ -149,6 +148,7 @@ class WebWorker(TileWorker):
                              control.AlwaysCache if cache_only else control.PreferCache)
         if cache_only:
             self._cache_only_tried.add(key)
+        assert self._nam is not None  # started
         reply = self._nam.get(request)
         host = self.template.host
         self._in_flight[host] += 1
@@ -215,8 +215,7 @@ class WebWorker(TileWorker):
     @QtCore.Slot()
     def stop(self) -> None:
         super().stop()
-        if self._timer is not None:
-            self._timer.stop()
+        self._timer.stop()
         for reply in list(self._pending.values()):
             reply.abort()
         self._pending.clear()
@@ -231,13 +230,12 @@ class ArchiveWorker(TileWorker):
     def __init__(self, path: Path) -> None:
         super().__init__()
         self.path = path
-        self._archive = None
-        self._timer: QtCore.QTimer | None = None
+        self._archive: MBTilesArchive | PMTilesArchive | None = None
+        self._timer = QtCore.QTimer(self, singleShot=True, interval=0)
+        self._timer.timeout.connect(self._next)
 
     @QtCore.Slot()
     def start(self) -> None:
-        self._timer = QtCore.QTimer(self, singleShot=True, interval=0)
-        self._timer.timeout.connect(self._next)
         try:
             self._archive = open_archive(self.path)
         except ArchiveError as err:

@@ -95,7 +95,7 @@ class TileLayer(BackgroundLayer):
 
     # --- arrivals -------------------------------------------------------------------------------------
     def _tile_loaded(self, key: TileKey, image: QtGui.QImage) -> None:
-        key = tuple(key)
+        key = (int(key[0]), int(key[1]), int(key[2]))
         old = self._images.pop(key, None)
         if old is not None:
             self._image_bytes -= old.sizeInBytes()
@@ -108,8 +108,9 @@ class TileLayer(BackgroundLayer):
         self.update()
 
     def _tile_absent(self, key: TileKey) -> None:
-        self._absent.add(tuple(key))
-        self._asked.discard(tuple(key))
+        key = (int(key[0]), int(key[1]), int(key[2]))
+        self._absent.add(key)
+        self._asked.discard(key)
 
     def _status(self, text: str) -> None:
         self.status = text
