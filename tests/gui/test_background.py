@@ -54,7 +54,7 @@ def hide_track(window) -> None:
 
 def settle_tiles(qtbot, window) -> None:
     layer = window.map_view.background
-    qtbot.waitUntil(lambda: bool(layer._shown) and layer.all_shown_settled(), timeout=15000)
+    qtbot.waitUntil(lambda: bool(layer._shown) and layer.is_settled(), timeout=15000)
     qtbot.wait(50)
 
 
