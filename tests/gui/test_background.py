@@ -311,3 +311,40 @@ def test_web_map_dialog_tells_once_and_checks_keys_and_addresses(qtbot, settings
     later = WebMapDialog(stored)
     qtbot.addWidget(later)
     assert later.findChild(QtWidgets.QLabel, "privacyNote") is None
+
+
+def test_disk_cache_defaults_to_500_mb_and_follows_the_setting(qtbot, window, server, monkeypatch):
+    window.set_document(cross_track(47.005, 9.01))
+    show_web(window, server.url)
+    settle_tiles(qtbot, window)
+    worker = window.map_view.background.loader.worker
+    assert worker._nam.cache().maximumCacheSize() == 500_000_000
+    assert worker.cache_dir == window.background_controller.stored.cache_dir
+    assert str(worker.cache_dir).startswith(str(window.settings.store.fileName()).rsplit("/", 1)[0])  # tmp, not ~
+    monkeypatch.setattr(QtWidgets.QInputDialog, "getInt", staticmethod(lambda *a, **k: (200, True)))
+    window.background_controller.ask_cache_size()
+    settle_tiles(qtbot, window)
+    assert window.background_controller.stored.cache_mb == 200
+    assert window.map_view.background.loader.worker._nam.cache().maximumCacheSize() == 200_000_000
+
+
+def test_memory_cache_keeps_the_newest_tiles_within_its_bound(qtbot):
+    from editor.views.background.tile_layer import TileLayer
+
+    class Loader(QtCore.QObject):  # the loader's signals, without a thread
+        tile_loaded = QtCore.Signal(object, QtGui.QImage)
+        tile_absent = QtCore.Signal(object)
+        status_changed = QtCore.Signal(str)
+
+        def want(self, keys):
+            pass
+
+        def shutdown(self):
+            pass
+
+    tile = QtGui.QImage(256, 256, QtGui.QImage.Format.Format_ARGB32_Premultiplied)
+    layer = TileLayer(Loader(), "test", memory_bytes=3 * tile.sizeInBytes())
+    for x in range(5):
+        layer._tile_loaded((10, x, 0), tile)
+    assert list(layer._images) == [(10, 2, 0), (10, 3, 0), (10, 4, 0)]
+    assert layer._image_bytes == 3 * tile.sizeInBytes()

@@ -24,6 +24,9 @@ ERROR_BUDGET_PX = 0.5
 MEMORY_CACHE_BYTES = 96 * 1024 * 1024
 #: Warps kept (they depend only on the projection and the tile).
 WARP_CACHE = 2048
+#: How far each cell is drawn beyond its edges, as a share of the warp tolerance (which is at most
+#: ERROR_BUDGET_PX): closes hairline seams between separately fitted cells.
+SEAM_OVERLAP = 0.7
 #: Milliseconds the scale must rest before tiles are drawn smoothly again after a zoom.
 ZOOM_REST_MS = 150
 #: How many levels up a coarser tile may stand in for a missing one.
@@ -187,8 +190,16 @@ class TileLayer(BackgroundLayer):
         ox, oy, scale = part
         out = []
         for cell in self._warp(z, x, y).cells(tolerance_m, self._world_box, depth):
+            # Each cell is drawn a hair larger than it is (SEAM_OVERLAP of the tolerance, at most 0.35
+            # screen px): neighbouring cells fitted separately would otherwise leave hairline gaps
+            # where their edges round to different pixels. The warp bound plus this stays under 1 px.
+            a, b, c, d = cell.affine[:4]
+            pad_m = SEAM_OVERLAP * tolerance_m
+            pu = pad_m / max(math.hypot(a, b), 1e-12)
+            pv = pad_m / max(math.hypot(c, d), 1e-12)
             out.append((QtGui.QTransform(*cell.affine),
-                        QtCore.QRectF(cell.u0, cell.v0, cell.u1 - cell.u0, cell.v1 - cell.v0),
+                        QtCore.QRectF(cell.u0 - pu, cell.v0 - pv, cell.u1 - cell.u0 + 2 * pu,
+                                      cell.v1 - cell.v0 + 2 * pv),
                         QtCore.QRectF((ox + cell.u0 * scale) * w, (oy + cell.v0 * scale) * h,
                                       (cell.u1 - cell.u0) * scale * w, (cell.v1 - cell.v0) * scale * h)))
         self._draw_lists[key] = out
