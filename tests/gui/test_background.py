@@ -348,3 +348,33 @@ def test_memory_cache_keeps_the_newest_tiles_within_its_bound(qtbot):
         layer._tile_loaded((10, x, 0), tile)
     assert list(layer._images) == [(10, 2, 0), (10, 3, 0), (10, 4, 0)]
     assert layer._image_bytes == 3 * tile.sizeInBytes()
+
+
+def test_stale_saved_tiles_still_show_when_the_server_is_gone(qtbot, dialogs, settings):
+    from editor.app.window import MainWindow
+
+    stale = TileServer(max_age_s=0)  # every saved tile is out of date at once: the cache must ask first
+    first = MainWindow(settings)
+    qtbot.addWidget(first)
+    first.resize(1300, 850)
+    first.show()
+    first.set_document(cross_track(47.005, 9.01))
+    show_web(first, stale.url)
+    settle_tiles(qtbot, first)
+    assert first.map_view.background.shown_loaded() > 0
+    view_range = first.map_view.view_box.viewRect()
+    first.close()
+    stale.stop()
+    second = MainWindow(settings)
+    qtbot.addWidget(second)
+    second.resize(1300, 850)
+    second.show()
+    second.set_document(cross_track(47.005, 9.01))
+    second.map_view.view_box.setRange(view_range, padding=0)
+    label = second.background_controller.status_label
+    qtbot.waitUntil(lambda: "offline" in label.text(), timeout=15000)
+    settle_tiles(qtbot, second)
+    layer = second.map_view.background
+    assert layer.shown_loaded() == len(layer._shown) > 0  # all from the saved copies
+    assert dialogs.asked == []
+    second.close()
