@@ -353,7 +353,7 @@ def test_memory_cache_keeps_the_newest_tiles_within_its_bound(qtbot):
 def test_stale_saved_tiles_still_show_when_the_server_is_gone(qtbot, dialogs, settings):
     from editor.app.window import MainWindow
 
-    stale = TileServer(max_age_s=0)  # every saved tile is out of date at once: the cache must ask first
+    stale = TileServer(max_age_s=1)  # saved tiles go out of date after a second: the cache must ask first
     first = MainWindow(settings)
     qtbot.addWidget(first)
     first.resize(1300, 850)
@@ -365,6 +365,7 @@ def test_stale_saved_tiles_still_show_when_the_server_is_gone(qtbot, dialogs, se
     view_range = first.map_view.view_box.viewRect()
     first.close()
     stale.stop()
+    qtbot.wait(2100)  # HTTP dates have whole seconds: let the saved tiles expire for sure
     second = MainWindow(settings)
     qtbot.addWidget(second)
     second.resize(1300, 850)
