@@ -34,7 +34,7 @@ TileKey = tuple[int, int, int]  # (z, x wrapped into the world, y)
 
 Error = QtNetwork.QNetworkReply.NetworkError
 #: HTTP answers meaning "this tile does not exist" (not a failing server).
-ABSENT_STATUS = {204, 400, 403, 404, 410}
+ABSENT_STATUS = {204, 400, 401, 403, 404, 410}
 
 
 def decode(data: bytes) -> QtGui.QImage | None:
@@ -175,6 +175,9 @@ class WebWorker(TileWorker):
                 self._back_online()
         elif status in ABSENT_STATUS:
             self.tile_absent.emit(key)
+            if status in (401, 403):
+                self._set_status(f"Map background: {self.template.host} refused the tiles (HTTP {status}); "
+                                 "check the key in View ▸ Background ▸ Web map")
             if not cache_only:
                 self._back_online()
         elif cache_only:
