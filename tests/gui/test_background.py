@@ -98,7 +98,7 @@ def line_offsets(window, rgb: np.ndarray, rows: np.ndarray, meridian: bool) -> l
 
 
 @pytest.mark.parametrize("lat0, lon0, metres_per_px", [
-    (47.005, 9.01, 6.0), (47.005, 9.01, 1.3), (47.005, 9.01, 0.22),  # three zoom levels (tile zooms 15, 17, 19)
+    (47.005, 9.01, 6.0), (47.005, 9.01, 1.3), (47.005, 9.01, 0.22),  # three zoom levels (tile zooms 14, 17, 19)
     (60.005, 9.01, 1.0),                                              # and at 60° N
 ])
 def test_reference_lines_sit_under_the_track_points(qtbot, window, server, lat0, lon0, metres_per_px):
