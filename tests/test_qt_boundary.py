@@ -20,7 +20,7 @@ BLOCKED_IMPORT = textwrap.dedent("""
     import editor
     names = ["editor.cli", "editor.recovery", "editor.units", "editor.bundled", "editor.app.session", "editor.__main__"]
     for pkg in ("editor.model", "editor.io", "editor.geo", "editor.processing", "editor.cli", "editor.recovery",
-                "editor.terrain"):
+                "editor.terrain", "editor.tiles"):
         module = importlib.import_module(pkg)
         names += [m.name for m in pkgutil.walk_packages(module.__path__, pkg + ".")]
     imported = []
@@ -46,7 +46,8 @@ def test_core_imports_without_qt():
     assert result.returncode == 0, result.stderr
     count, names = result.stdout.split(" ", 1)
     for required in ("editor.cli", "editor.cli.clean", "editor.recovery", "editor.model.document", "editor.io.gpx",
-                     "editor.geo.distance", "editor.processing.stats", "editor.processing.smoothing"):
+                     "editor.geo.distance", "editor.processing.stats", "editor.processing.smoothing",
+                     "editor.tiles.warp", "editor.tiles.archives", "editor.tiles.catalogue"):
         assert required in names.split()
 
 

@@ -52,7 +52,7 @@ def terrain_shot(out: Path) -> int:
     window.resize(1600, 1000)
     window.show()
     hike = ROOT / "demo_tracks" / "demo_hike.gpx"
-    if not window.open_path(hike, confirmed=True):
+    if not window.files.open_path(hike, confirmed=True):
         print(f"cannot open {hike}", file=sys.stderr)
         return 2
     panel = window.tool_dock.panel("elevation")
@@ -61,24 +61,23 @@ def terrain_shot(out: Path) -> int:
     if not _wait(app, lambda: window.state.preview is not None):
         print("the preview did not arrive", file=sys.stderr)
         return 1
-    geometry = window.geometry_
+    geometry = window.display.geometry
     x0, x1 = float(geometry.x_m.min()), float(geometry.x_m.max())
     y0, y1 = float(geometry.y_m.min()), float(geometry.y_m.max())
     pad = 300.0
     window.map_view.view_box.setRange(QtCore.QRectF(x0 - pad, y0 - pad, x1 - x0 + 2 * pad, y1 - y0 + 2 * pad),
                                       padding=0)
-    relief = window.map_view.relief
+    relief = window.map_view.background  # the terrain's shaded relief, shown once terrain is chosen
     app.processEvents()
-    if not _wait(app, lambda: relief.item.isVisible() and not relief._timer.isActive()):
+    if not _wait(app, lambda: relief.shown is not None and not relief._timer.isActive()):
         print("the relief did not arrive", file=sys.stderr)
         return 1
     _wait(app, lambda: False, 1.5)  # the relief of the final view range
     out.parent.mkdir(parents=True, exist_ok=True)
     window.grab().save(str(out))
-    window.discard_preview()
+    window.previews.discard_preview()
     window.undo_stack.setClean()
     window.close()
-    relief.shutdown()
     print(f"wrote {out}")
     return 0
 

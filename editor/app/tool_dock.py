@@ -32,7 +32,7 @@ class ToolDock(QtWidgets.QTabWidget):
             if isinstance(panel, SmoothingPanel):
                 panel.estimate_requested.connect(lambda p=panel: self.estimate(p))
             if isinstance(panel, ElevationPanel):
-                panel.terrain_changed.connect(window.map_view.set_terrain)  # shaded relief of the same terrain
+                panel.terrain_changed.connect(window.terrain_chosen)  # shaded relief of the same terrain
             scroller = QtWidgets.QScrollArea()
             scroller.setWidgetResizable(True)
             scroller.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)

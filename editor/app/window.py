@@ -16,6 +16,7 @@ from ..views.base import LinkedPlot
 from ..views.geometry import document_projection
 from ..views.map_view import MapView
 from ..views.profile_view import ProfileView
+from ..views.relief_layer import ReliefBackground
 from ..views.style import Palette
 from ..units import offset_label
 from . import dialogs
@@ -23,6 +24,7 @@ from .actions import build_actions
 from .display import DisplayController
 from .editing import EditController
 from .files import FileController
+from .background_menu import BackgroundController
 from .panes import ViewPane
 from .previews import PreviewController
 from .recovery_keeper import RecoveryKeeper
@@ -124,6 +126,7 @@ class MainWindow(QtWidgets.QMainWindow):
         # shows the session once the widgets exist (it connects to the views' shared state after them)
         self.display = DisplayController(self, self.session)
         self.actions_.update(build_actions(self))
+        self.background_controller = BackgroundController(self)  # View ▸ Background and the map's layer
         self._connect()
         self._apply_display_settings()
         self._restore_layout()
@@ -193,6 +196,22 @@ class MainWindow(QtWidgets.QMainWindow):
         self.settings.utc_offset_h = hours
         self._apply_display_settings()
         self.state.hover_changed.emit(self.state.hover)
+
+    def terrain_chosen(self, terrain) -> None:
+        """Terrain files were chosen (Elevation tool): offer their shaded relief as the map background,
+        and show it at once when the map has no background yet."""
+        if terrain is None:
+            self.background_controller.set_relief_source(None)
+            return
+
+        def relief() -> ReliefBackground:
+            return ReliefBackground(terrain)
+
+        self.background_controller.set_relief_source(relief)
+        if self.map_view.background is None:
+            self.background_controller.choose("relief")
+        self.statusBar().showMessage("Terrain loaded: its shaded relief is under the map "
+                                     "(View ▸ Background chooses another).", 8000)
 
     def set_move_mode(self, on: bool) -> None:
         """Points can be dragged only in this mode; every other drag pans (see Help ▸ Gestures)."""

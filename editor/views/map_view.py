@@ -7,6 +7,8 @@ from PySide6 import QtCore, QtGui, QtWidgets
 
 from ..geo.projection import LocalProjection
 from ..model.state import EditorState
+from .background.attribution import AttributionLabel
+from .background.layer import BackgroundLayer
 from .base import GRAB_PX, LinkedPlot
 from .gesture_box import PassiveScatter
 from .geometry import TrackGeometry, lod_indices, take_with_breaks
@@ -88,7 +90,6 @@ class MapView(LinkedPlot):
     def __init__(self, state: EditorState, palette: Palette, parent=None) -> None:
         super().__init__(state, palette, parent)
         self.projection = LocalProjection(0.0, 0.0)
-        self.relief = None  # a ReliefLayer once terrain is set (set_terrain)
         self.box_mode = False
         self.units = METRIC
         self.view_box.setAspectLocked(True, 1.0)
@@ -128,7 +129,38 @@ class MapView(LinkedPlot):
         self.scale_bar = ScaleBar(palette)
         self.scale_bar.setParentItem(self.view_box)
         self.scale_bar.anchor(itemPos=(0, 1), parentPos=(0, 1), offset=(14, -12))
+        self.background: BackgroundLayer | None = None
+        self.background_opacity = 1.0
+        self.attribution_label = AttributionLabel()
+        self.attribution_label.setParentItem(self.view_box)
+        self.attribution_label.anchor(itemPos=(1, 1), parentPos=(1, 1), offset=(-2, -2))
+        self.attribution_label.set_text("")
         self.scene().sigMouseMoved.connect(self._mouse_moved)
+
+    # --- background -------------------------------------------------------------------------------
+    def set_background(self, layer: BackgroundLayer | None) -> None:
+        """Draw ``layer`` under the track (``None``: no background); the previous layer is shut down."""
+        if self.background is not None:
+            self.view_box.removeItem(self.background)
+            self.background.shutdown()
+        self.background = layer
+        self.attribution_label.set_text(layer.attribution() if layer is not None else "")
+        if layer is not None:
+            layer.set_projection(self.projection)
+            layer.setOpacity(self.background_opacity)
+            self.view_box.addItem(layer, ignoreBounds=True)
+            self._update_background()
+
+    def set_background_opacity(self, opacity: float) -> None:
+        self.background_opacity = min(max(float(opacity), 0.0), 1.0)
+        if self.background is not None:
+            self.background.setOpacity(self.background_opacity)
+
+    def _update_background(self) -> None:
+        # Nothing shown yet (no document): ask for no tiles, so starting the editor fetches nothing.
+        if self.background is not None and (len(self.geometry) or len(self.waypoint_item.data)):
+            px = self.view_box.viewPixelSize()[0]
+            self.background.set_view(self.view_box.viewRect(), px, self.devicePixelRatioF())
 
     def set_units(self, units: UnitSystem) -> None:
         self.units = units
@@ -136,21 +168,8 @@ class MapView(LinkedPlot):
 
     def set_projection(self, projection: LocalProjection) -> None:
         self.projection = projection
-        if self.relief is not None:
-            self.relief.refresh()
-
-    def set_terrain(self, terrain) -> None:
-        """Draw shaded relief of ``terrain`` (an ``editor.terrain.Terrain``) under the track; None: none."""
-        if self.relief is None:
-            from .relief_layer import ReliefLayer
-
-            self.relief = ReliefLayer(self)
-        self.relief.set_terrain(terrain)
-
-    def set_relief_visible(self, visible: bool) -> None:
-        """The View menu's switch for the shaded relief (kept when terrain changes)."""
-        if self.relief is not None:
-            self.relief.set_enabled(visible)
+        if self.background is not None:
+            self.background.set_projection(projection)
 
     def track_xy(self, geometry: TrackGeometry):
         return geometry.x_m, geometry.y_m
@@ -238,6 +257,7 @@ class MapView(LinkedPlot):
             rows = lod_indices(x, y, rect, pixel)
             item.setData(take_with_breaks(x, rows), take_with_breaks(y, rows), connect="finite")
         self.scale_bar.update_bar()
+        self._update_background()
 
     # --- gestures -------------------------------------------------------------------------------
     def _mouse_moved(self, scene_pos: QtCore.QPointF) -> None:
@@ -304,3 +324,10 @@ class MapView(LinkedPlot):
             if row is not None and (pos.x(), pos.y()) != (self._xy[0][row], self._xy[1][row]):
                 self.point_dragged.emit(row, float(pos.x()), float(pos.y()))
             self._on_hover(self.state.hover)
+
+    def detach(self) -> None:
+        self.set_background(None)  # stops the background's worker thread
+        super().detach()
+
+    def drag_active(self) -> bool:
+        return self._drag_row is not None

@@ -8,6 +8,7 @@ import numpy as np
 from editor.io.gpx import read_gpx
 from editor.panels.elevation_panel import ElevationPanel
 from editor.processing.tools import TOOLS
+from editor.views.relief_layer import ReliefBackground
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_tracks"
 
@@ -63,6 +64,8 @@ def test_elevation_tab_previews_applies_and_shades_the_map(window, qtbot):
     qtbot.waitUntil(lambda: len(window.profile_view.terrain_item.getData()[0]) > 0, timeout=5000)
     panel.apply_button.click()
     assert window.undo_stack.count() == 1
-    relief = window.map_view.relief
-    qtbot.waitUntil(lambda: relief.item.isVisible(), timeout=20000)
-    relief.shutdown()
+    # the terrain's shaded relief became the map's background (View ▸ Background ▸ Shaded relief)
+    relief = window.map_view.background
+    assert isinstance(relief, ReliefBackground)
+    assert window.background_controller.kind_shown() == "relief"
+    qtbot.waitUntil(lambda: relief.shown is not None, timeout=20000)
