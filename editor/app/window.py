@@ -41,6 +41,28 @@ VIEW_PANES: tuple[tuple[str, type[LinkedPlot], str], ...] = (
 )
 
 
+#: The window's size on first start, when the screen has room for it.
+PREFERRED_SIZE = (1500, 940)
+
+
+def first_size(available: QtCore.QSize | None) -> tuple[int, int]:
+    """The first-start size: the preferred one, shrunk to fit the screen's free area (a 1280×720
+    laptop included) with a margin for the window frame."""
+    width, height = PREFERRED_SIZE
+    if available is None or available.isEmpty():
+        return width, height
+    return min(width, available.width() - 16), min(height, available.height() - 40)
+
+
+def _scrolled(widget: QtWidgets.QWidget) -> QtWidgets.QScrollArea:
+    scroller = QtWidgets.QScrollArea()
+    scroller.setWidgetResizable(True)
+    scroller.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
+    scroller.setHorizontalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+    scroller.setWidget(widget)
+    return scroller
+
+
 class MainWindow(QtWidgets.QMainWindow):
     """One session (document, shared :class:`EditorState`), one undo stack.
 
@@ -94,8 +116,9 @@ class MainWindow(QtWidgets.QMainWindow):
         self.tool_dock = ToolDock(self)
 
         self.tools_dock = self._dock("Clean-up tools", "toolsDock", self.tool_dock)
-        self.totals_dock = self._dock("Totals", "totalsDock", self.totals_panel)
-        self.legend_dock = self._dock("Legend", "legendDock", LegendPanel(self.palette_))
+        # scrolls rather than squeezing its rows together on a short screen
+        self.totals_dock = self._dock("Totals", "totalsDock", _scrolled(self.totals_panel))
+        self.legend_dock = self._dock("Legend", "legendDock", _scrolled(LegendPanel(self.palette_)))
         self.history_dock = self._dock("History", "historyDock", self.history)
         self.tracks_dock = self._dock("Tracks and segments", "tracksDock", self.track_list)
         right = QtCore.Qt.DockWidgetArea.RightDockWidgetArea
@@ -105,10 +128,8 @@ class MainWindow(QtWidgets.QMainWindow):
         # The legend shares a tab group with the history, so the tool controls keep their room.
         self.tabifyDockWidget(self.history_dock, self.legend_dock)
         self.tabifyDockWidget(self.history_dock, self.tracks_dock)
-        self.legend_dock.raise_()
+        self.history_dock.raise_()
         self.resizeDocks([self.tools_dock], [390], QtCore.Qt.Orientation.Horizontal)
-        self.resizeDocks([self.tools_dock, self.totals_dock, self.history_dock], [560, 230, 170],
-                         QtCore.Qt.Orientation.Vertical)
 
         self.status_points = dialogs.plain_label("")
         self.status_units = dialogs.plain_label("")
@@ -169,15 +190,25 @@ class MainWindow(QtWidgets.QMainWindow):
         if geometry is not None:
             self.restoreGeometry(geometry)
         else:
-            self.resize(1500, 940)
+            self.resize(*first_size(self.screen().availableGeometry().size() if self.screen() else None))
         window_state = self.settings.value("layout/window_state")
         if window_state is not None:
             self.restoreState(window_state)
+        else:
+            # once the window has its size: the tool controls get most of the height, and on a
+            # short screen (1280×720) the totals and the history give way
+            QtCore.QTimer.singleShot(0, self._first_dock_heights)
         splitter = self.settings.value("layout/splitter")
         if splitter is not None:
             self.splitter.restoreState(splitter)
         else:
             self.splitter.setSizes([620, 320] if self.settings.stacked else [700, 500])
+
+    def _first_dock_heights(self) -> None:
+        docks = [self.tools_dock, self.totals_dock, self.history_dock]
+        height = sum(d.height() for d in docks) or self.height()
+        self.resizeDocks(docks, [round(height * 0.6), round(height * 0.25), round(height * 0.15)],
+                         QtCore.Qt.Orientation.Vertical)
 
     def _save_layout(self) -> None:
         self.settings.set_value("layout/geometry", self.saveGeometry())

@@ -101,6 +101,7 @@ class WebWorker(TileWorker):
         self._nam: QtNetwork.QNetworkAccessManager | None = None
         self._in_flight: dict[str, int] = defaultdict(int)
         self._pending: dict[TileKey, QtNetwork.QNetworkReply] = {}
+        self._asked: dict[QtNetwork.QNetworkReply, tuple[TileKey, bool, str, bool]] = {}
         self._cache_only_tried: set[TileKey] = set()
         self._waiting: set[TileKey] = set()  # failed online: asked again when the server is back
         self._offline = False
@@ -118,6 +119,10 @@ class WebWorker(TileWorker):
         cache.setMaximumCacheSize(self.cache_bytes)
         self._nam.setCache(cache)
         self._nam.setTransferTimeout(TIMEOUT_MS)
+        # One connection for every reply, made here once: connecting per reply from this thread took
+        # Qt's connection lock while holding the GIL, and deadlocked against the UI thread destroying
+        # an object (which holds that lock and waits for the GIL).
+        self._nam.finished.connect(self._reply_finished)
 
     def _pump(self) -> None:
         if self._nam is None:
@@ -153,7 +158,13 @@ class WebWorker(TileWorker):
         host = self.template.host
         self._in_flight[host] += 1
         self._pending[key] = reply
-        reply.finished.connect(lambda: self._finished(key, reply, cache_only, host, probe))
+        self._asked[reply] = (key, cache_only, host, probe)
+
+    def _reply_finished(self, reply: QtNetwork.QNetworkReply) -> None:
+        asked = self._asked.pop(reply, None)
+        if asked is not None:
+            key, cache_only, host, probe = asked
+            self._finished(key, reply, cache_only, host, probe)
 
     def _finished(self, key: TileKey, reply: QtNetwork.QNetworkReply, cache_only: bool, host: str,
                   probe: bool) -> None:
