@@ -16,25 +16,14 @@ from hypothesis import HealthCheck, given, settings, strategies as st
 from editor.model.payload import is_inserted, strip_gap_record
 from editor.model import DeletePoints, Document, PointTable, SplitSegment, Track
 from editor.model.document import check_segment_starts
-from editor.processing.gaps import GapParams
-from editor.processing.simplify import SimplifyParams
-from editor.processing.smoothing import SmoothParams
-from editor.processing.spikes import SpikeParams
-from editor.processing.stops import StopParams
 from editor.model.payload import GAP_FILL_MARKER
 from editor.processing.tools import TOOLS
 
 from processing.cleaning_tracks import ORIGIN, T0
+from random_tool_params import PARAMS
 
 #: the tools that need nothing but the track (the terrain tool needs the user's rasters)
 SELF_CONTAINED = {key: tool for key, tool in TOOLS.items() if not tool.requires}
-PARAMS = {
-    "smooth": lambda s: SmoothParams(horizontal_strength=float(s % 100), vertical_strength=float((s * 7) % 100)),
-    "despike": lambda s: SpikeParams(),
-    "fill_gaps": lambda s: GapParams(long_gap="split" if s % 2 else "leave"),
-    "collapse_stops": lambda s: StopParams(),
-    "simplify": lambda s: SimplifyParams(tolerance_m=1.0 + s % 20),
-}
 
 
 def invented_track(seed: int, n: int, segments: int) -> Track:

@@ -15,23 +15,12 @@ from editor.io.gpx import gpx_bytes, read_gpx, read_gpx_bytes, write_gpx
 from editor.model.payload import ElementExtra, PointExtra, mark_inserted
 from editor.model import DeletePoints, InsertPoints, PointTable, SetValues, SplitSegment
 from editor.model.edits import EditSequence, MergeSegments
-from editor.processing.gaps import GapParams
-from editor.processing.simplify import SimplifyParams
-from editor.processing.smoothing import SmoothParams
-from editor.processing.spikes import SpikeParams
-from editor.processing.stops import StopParams
 from editor.processing.tools import TOOLS
 from editor.recovery import Journal, JournalRecorder, find_journals, replay
 from tests.recovery.rich_gpx import rich_gpx
 from tests.recovery.stack_model import StackModel
+from random_tool_params import PARAMS
 
-PARAMS = {
-    "smooth": lambda s: SmoothParams(horizontal_strength=float(s % 100), vertical_strength=float((s * 7) % 100)),
-    "despike": lambda s: SpikeParams(),
-    "fill_gaps": lambda s: GapParams(long_gap="split" if s % 2 else "leave"),
-    "collapse_stops": lambda s: StopParams(),
-    "simplify": lambda s: SimplifyParams(tolerance_m=1.0 + s % 20),
-}
 PAYLOADS = [None, "", "<hr:hr>77</hr:hr>",  # as the reader gives it: hr is declared on the root
             PointExtra("<magvar>1.5</magvar>", "<sym>Pin</sym><fix>2d</fix>", "<dgpsid>3</dgpsid>", None),
             PointExtra("", "<desc>a\u00e9</desc>", "", "<x:y xmlns:x=\"urn:x\"/>"), mark_inserted(None)]
