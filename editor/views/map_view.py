@@ -328,6 +328,3 @@ class MapView(LinkedPlot):
     def detach(self) -> None:
         self.set_background(None)  # stops the background's worker thread
         super().detach()
-
-    def drag_active(self) -> bool:
-        return self._drag_row is not None
