@@ -54,7 +54,7 @@ class ElevationPanel(ToolPanel):
         self.reference = QtWidgets.QLabel("No terrain chosen.")
         self.reference.setTextFormat(QtCore.Qt.TextFormat.PlainText)
         self.reference.setWordWrap(True)
-        self.layout().insertWidget(self.layout().indexOf(self.status), self.reference)
+        self.layout().insertWidget(self.layout().indexOf(self.footer), self.reference)
 
     def _choose_files(self) -> None:
         paths, _ = QtWidgets.QFileDialog.getOpenFileNames(self, "Terrain files", "", FILE_FILTER)

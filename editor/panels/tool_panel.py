@@ -64,6 +64,11 @@ class ToolPanel(QtWidgets.QWidget):
         scope_layout.addWidget(self.selection_only)
         self.selection_only.toggled.connect(lambda _on: self.preview_requested.emit(False))
         outer.addWidget(scope_box)
+        # the buttons and the status form a footer, which the tool dock keeps in view below the
+        # scrolling settings (detach_footer); a panel on its own keeps it in its layout
+        self.footer = QtWidgets.QWidget()
+        footer_layout = QtWidgets.QVBoxLayout(self.footer)
+        footer_layout.setContentsMargins(0, 0, 0, 0)
         buttons = QtWidgets.QHBoxLayout()
         self.preview_button = QtWidgets.QPushButton("&Preview")
         self.apply_button = QtWidgets.QPushButton("&Apply")
@@ -74,13 +79,20 @@ class ToolPanel(QtWidgets.QWidget):
         self.discard_button.clicked.connect(self.discard_requested)
         for b in (self.preview_button, self.apply_button, self.discard_button):
             buttons.addWidget(b)
-        outer.addLayout(buttons)
+        footer_layout.addLayout(buttons)
         self.status = QtWidgets.QLabel("")
         self.status.setTextFormat(QtCore.Qt.TextFormat.PlainText)  # may quote an error about the file
         self.status.setWordWrap(True)
-        outer.addWidget(self.status)
+        footer_layout.addWidget(self.status)
+        outer.addWidget(self.footer)
         outer.addStretch(1)
         self.set_has_preview(False)
+
+    def detach_footer(self) -> QtWidgets.QWidget:
+        """Take Preview / Apply / Discard and the status out of the panel, for the caller to place
+        where they stay visible however far the settings scroll."""
+        self.layout().removeWidget(self.footer)
+        return self.footer
 
     def params(self) -> Any:
         """The tool's parameters as the controls show them (other fields at their defaults)."""

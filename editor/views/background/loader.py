@@ -1,4 +1,5 @@
-"""Getting tile images off the UI thread: a worker thread with Qt's network stack or an archive reader.
+"""Getting tiles off the UI thread: a worker thread with Qt's network stack or an archive reader
+(the tile's bytes are decoded into an image on the UI thread).
 
 The layer says which tiles it wants (newest wish replaces older ones); the worker answers each with
 an image or with "absent", and reports one status line. For web tiles:
@@ -46,9 +47,14 @@ def decode(data: bytes) -> QtGui.QImage | None:
 
 
 class TileWorker(QtCore.QObject):
-    """Lives on the loader's thread; talks to the layer only by signals."""
+    """Lives on the loader's thread; talks to the layer only by signals.
 
-    tile_loaded = QtCore.Signal(object, QtGui.QImage)
+    It hands over the tile's bytes, never an image: decoding with Qt on this thread (``QImage``)
+    takes Qt's object locks while holding Python's lock, which deadlocked against the UI thread
+    destroying a widget. The loader decodes on the UI thread.
+    """
+
+    tile_bytes = QtCore.Signal(object, bytes)
     tile_absent = QtCore.Signal(object)
     status_changed = QtCore.Signal(str)
 
@@ -177,11 +183,7 @@ class WebWorker(TileWorker):
         if error == Error.OperationCanceledError:
             pass
         elif error == Error.NoError and status in (None, 200, 203, 304):
-            image = decode(data)
-            if image is None:
-                self.tile_absent.emit(key)
-            else:
-                self.tile_loaded.emit(key, image)
+            self.tile_bytes.emit(key, data)
             if not cache_only:
                 self._back_online()
         elif status in ABSENT_STATUS:
@@ -268,11 +270,10 @@ class ArchiveWorker(TileWorker):
         except Exception as err:  # a damaged archive: say so once, keep the editor working
             self._set_status(f"Map background: {self.path.name} cannot be read ({err})")
             data = None
-        image = decode(data) if data else None
-        if image is None:
-            self.tile_absent.emit(key)
+        if data:
+            self.tile_bytes.emit(key, bytes(data))
         else:
-            self.tile_loaded.emit(key, image)
+            self.tile_absent.emit(key)
         self._pump()
 
     @QtCore.Slot()
@@ -294,6 +295,8 @@ class TileLoader(QtCore.QObject):
     tile_loaded = QtCore.Signal(object, QtGui.QImage)
     tile_absent = QtCore.Signal(object)
     status_changed = QtCore.Signal(str)
+    #: the worker's bytes, re-emitted on the UI thread (a signal-to-signal hop) to be decoded there
+    _tile_bytes = QtCore.Signal(object, bytes)
 
     def __init__(self, worker: TileWorker) -> None:
         super().__init__()
@@ -301,11 +304,19 @@ class TileLoader(QtCore.QObject):
         self._thread.setObjectName("tile-loader")
         self.worker = worker
         worker.moveToThread(self._thread)
-        worker.tile_loaded.connect(self.tile_loaded)
+        worker.tile_bytes.connect(self._tile_bytes)
+        self._tile_bytes.connect(self._decode)
         worker.tile_absent.connect(self.tile_absent)
         worker.status_changed.connect(self.status_changed)
         self._thread.start()
         self._call("start")
+
+    def _decode(self, key: TileKey, data: bytes) -> None:
+        image = decode(data)
+        if image is None:
+            self.tile_absent.emit(key)
+        else:
+            self.tile_loaded.emit(key, image)
 
     def _call(self, slot: str, blocking: bool = False) -> None:
         kind = QtCore.Qt.ConnectionType
