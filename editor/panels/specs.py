@@ -9,8 +9,9 @@ from ..processing.activity import ACTIVITIES, AUTO
 from ..processing.descriptor import ControlSpec, ToolDescriptor
 
 #: The choice control of every ``activity`` field: the presets, or inferred from the track's speeds.
-ACTIVITY_SPEC = ControlSpec(label="Activity", choices=tuple([(AUTO, "auto (from speeds)")] +
-                                                            [(n, n) for n in ACTIVITIES if n != AUTO]))
+ACTIVITY_SPEC = ControlSpec(label="Activity", choices=tuple([(AUTO, "Guess from the speeds")] +
+                                                            [(n, a.label) for n, a in ACTIVITIES.items()
+                                                             if n != AUTO]))
 
 
 def panel_specs(tool: ToolDescriptor) -> dict[str, ControlSpec]:
