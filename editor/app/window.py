@@ -55,11 +55,14 @@ def first_size(available: QtCore.QSize | None) -> tuple[int, int]:
 
 
 def _scrolled(widget: QtWidgets.QWidget) -> QtWidgets.QScrollArea:
+    """``widget`` in a scroll area that keeps the dock at least as wide as the widget's minimum (a
+    column that grows later, the totals' changes, scrolls sideways rather than being cut off)."""
     scroller = QtWidgets.QScrollArea()
     scroller.setWidgetResizable(True)
     scroller.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
-    scroller.setHorizontalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
     scroller.setWidget(widget)
+    bar = scroller.verticalScrollBar().sizeHint().width()
+    scroller.setMinimumWidth(widget.minimumSizeHint().width() + bar)
     return scroller
 
 
@@ -129,7 +132,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.tabifyDockWidget(self.history_dock, self.legend_dock)
         self.tabifyDockWidget(self.history_dock, self.tracks_dock)
         self.history_dock.raise_()
-        self.resizeDocks([self.tools_dock], [390], QtCore.Qt.Orientation.Horizontal)
+        self.resizeDocks([self.tools_dock], [440], QtCore.Qt.Orientation.Horizontal)
 
         self.status_points = dialogs.plain_label("")
         self.status_units = dialogs.plain_label("")

@@ -105,9 +105,10 @@ class TotalsPanel(QtWidgets.QWidget):
         self.spike_label = QtWidgets.QLabel("")
         self.spike_label.setObjectName("spikeNote")
         self.spike_label.hide()
-        grid.addWidget(self.spike_label, len(ROWS) + 1, 0, 1, 4)
+        # below the last row (rows start at 2, after the caution and the headers)
+        grid.addWidget(self.spike_label, len(ROWS) + 2, 0, 1, 4)
         grid.setColumnStretch(0, 1)
-        grid.setRowStretch(len(ROWS) + 2, 1)
+        grid.setRowStretch(len(ROWS) + 3, 1)
         self._show_after(False)
 
     def _show_after(self, visible: bool) -> None:
