@@ -10,7 +10,7 @@ import math
 from PySide6 import QtCore, QtWidgets
 
 # the caution shown above the numbers is the one a saved copy's record carries
-from ..io.provenance import CAUTION
+from .. import CAUTION
 from ..processing.stats import Totals
 from ..units import METRIC, UnitSystem, format_duration
 
@@ -45,7 +45,8 @@ def _change(before: Totals, after: Totals, label: str, units: UnitSystem) -> str
         text = units.speed(abs(diff))
     else:
         text = f"{abs(int(diff)):,}"
-    pct = f" ({diff / a * 100:+.0f} %)" if a else ""
+    # the typographic minus, as in the difference itself ("−2.46 km (−6 %)")
+    pct = f" ({diff / a * 100:+.0f} %)".replace("-", "\u2212") if a else ""
     return ("+" if diff > 0 else "−") + text + pct
 
 
