@@ -44,13 +44,31 @@ class ToolPanel(QtWidgets.QWidget):
         self.form = QtWidgets.QFormLayout(box)
         self.form.setFieldGrowthPolicy(QtWidgets.QFormLayout.FieldGrowthPolicy.AllNonFixedFieldsGrow)
         self.controls: dict[str, ParamControl] = {}
-        for control in build_controls(tool.params, panel_specs(tool)):
+        # rarely needed settings wait under a collapsed "More settings" (issue 9, item 11)
+        self.more_button = QtWidgets.QToolButton()
+        self.more_button.setText("More settings")
+        self.more_button.setCheckable(True)
+        self.more_button.setToolButtonStyle(QtCore.Qt.ToolButtonStyle.ToolButtonTextBesideIcon)
+        self.more_button.setArrowType(QtCore.Qt.ArrowType.RightArrow)
+        self.more_box = QtWidgets.QWidget()
+        more_form = QtWidgets.QFormLayout(self.more_box)
+        more_form.setContentsMargins(0, 0, 0, 0)
+        more_form.setFieldGrowthPolicy(QtWidgets.QFormLayout.FieldGrowthPolicy.AllNonFixedFieldsGrow)
+        specs = panel_specs(tool)
+        for control in build_controls(tool.params, specs):
             self.controls[control.name] = control
             label = QtWidgets.QLabel(control.label_text + ":")
             label.setBuddy(control.editor)
             label.setToolTip(control.toolTip())
-            self.form.addRow(label, control)
+            more = specs.get(control.name)
+            (more_form if more is not None and more.more else self.form).addRow(label, control)
             control.changed.connect(lambda: self.preview_requested.emit(False))
+        if more_form.rowCount():
+            self.form.addRow(self.more_button)
+            self.form.addRow(self.more_box)
+        self.more_box.setVisible(False)
+        self.more_button.setVisible(bool(more_form.rowCount()))
+        self.more_button.toggled.connect(self._show_more)
         outer.addWidget(box)
         self.extra_row = QtWidgets.QHBoxLayout()
         outer.addLayout(self.extra_row)
@@ -87,6 +105,10 @@ class ToolPanel(QtWidgets.QWidget):
         outer.addWidget(self.footer)
         outer.addStretch(1)
         self.set_has_preview(False)
+
+    def _show_more(self, shown: bool) -> None:
+        self.more_box.setVisible(shown)
+        self.more_button.setArrowType(QtCore.Qt.ArrowType.DownArrow if shown else QtCore.Qt.ArrowType.RightArrow)
 
     def detach_footer(self) -> QtWidgets.QWidget:
         """Take Preview / Apply / Discard and the status out of the panel, for the caller to place

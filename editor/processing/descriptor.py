@@ -39,6 +39,8 @@ class ControlSpec:
     auto_text: str = "auto"
     slider: bool = False
     hidden: bool = False
+    #: rarely needed: shown under the panel's collapsed "More settings"
+    more: bool = False
 
 
 class _Off:
