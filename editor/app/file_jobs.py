@@ -29,7 +29,6 @@ from typing import Any
 
 from PySide6 import QtCore
 
-from ..model.document import Document
 
 
 class Cancelled(Exception):
@@ -158,9 +157,4 @@ def release_free_memory() -> None:
     trim(0)
 
 
-def document_snapshot(doc: Document) -> Document:
-    """A copy of ``doc`` for a writer thread (:meth:`Document.snapshot`: columns shared)."""
-    return doc.snapshot()
-
-
-__all__ = ["Cancelled", "FileJobBusy", "FileJobs", "document_snapshot"]
+__all__ = ["Cancelled", "FileJobBusy", "FileJobs"]
