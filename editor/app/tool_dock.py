@@ -4,13 +4,14 @@ from __future__ import annotations
 from dataclasses import replace
 
 import numpy as np
-from PySide6 import QtCore, QtWidgets
+from PySide6 import QtWidgets
 
 from ..panels.elevation_panel import ElevationPanel
 from ..panels.smoothing_panel import SmoothingPanel
 from ..panels.tool_panel import ToolPanel
 from ..processing.smoothing import estimate_strength
 from ..processing.tools import TOOLS
+from .scrolling import SteadyScrollArea
 
 #: The panel class for each descriptor's ``panel`` kind.
 PANEL_KINDS: dict[str, type[ToolPanel]] = {"standard": ToolPanel, "strength": SmoothingPanel,
@@ -33,11 +34,7 @@ class ToolDock(QtWidgets.QTabWidget):
                 panel.estimate_requested.connect(lambda p=panel: self.estimate(p))
             if isinstance(panel, ElevationPanel):
                 panel.terrain_changed.connect(window.terrain_chosen)  # shaded relief of the same terrain
-            scroller = QtWidgets.QScrollArea()
-            scroller.setWidgetResizable(True)
-            scroller.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
-            scroller.setHorizontalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-            scroller.setWidget(panel)
+            scroller = SteadyScrollArea(panel)
             page = QtWidgets.QWidget()  # settings scroll; Preview / Apply / Discard stay in view below
             page_layout = QtWidgets.QVBoxLayout(page)
             page_layout.setContentsMargins(0, 0, 0, 0)

@@ -28,6 +28,7 @@ from .background_menu import BackgroundController
 from .panes import ViewPane
 from .previews import PreviewController
 from .recovery_keeper import RecoveryKeeper
+from .scrolling import scrolled
 from .session import Session
 from .settings import AppSettings
 from .tool_dock import ToolDock
@@ -54,16 +55,8 @@ def first_size(available: QtCore.QSize | None) -> tuple[int, int]:
     return min(width, available.width() - 16), min(height, available.height() - 40)
 
 
-def _scrolled(widget: QtWidgets.QWidget) -> QtWidgets.QScrollArea:
-    """``widget`` in a scroll area that keeps the dock at least as wide as the widget's minimum (a
-    column that grows later, the totals' changes, scrolls sideways rather than being cut off)."""
-    scroller = QtWidgets.QScrollArea()
-    scroller.setWidgetResizable(True)
-    scroller.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
-    scroller.setWidget(widget)
-    bar = scroller.verticalScrollBar().sizeHint().width()
-    scroller.setMinimumWidth(widget.minimumSizeHint().width() + bar)
-    return scroller
+#: Height the tool controls keep however the docks were left: their everyday settings and buttons.
+MINIMUM_TOOLS_HEIGHT = 250
 
 
 class MainWindow(QtWidgets.QMainWindow):
@@ -119,9 +112,11 @@ class MainWindow(QtWidgets.QMainWindow):
         self.tool_dock = ToolDock(self)
 
         self.tools_dock = self._dock("Clean-up tools", "toolsDock", self.tool_dock)
+        # whatever sizes a saved layout brings, the everyday settings and the buttons stay usable
+        self.tools_dock.setMinimumHeight(MINIMUM_TOOLS_HEIGHT)
         # scrolls rather than squeezing its rows together on a short screen
-        self.totals_dock = self._dock("Totals", "totalsDock", _scrolled(self.totals_panel))
-        self.legend_dock = self._dock("Legend", "legendDock", _scrolled(LegendPanel(self.palette_)))
+        self.totals_dock = self._dock("Totals", "totalsDock", scrolled(self.totals_panel))
+        self.legend_dock = self._dock("Legend", "legendDock", scrolled(LegendPanel(self.palette_)))
         self.history_dock = self._dock("History", "historyDock", self.history)
         self.tracks_dock = self._dock("Tracks and segments", "tracksDock", self.track_list)
         right = QtCore.Qt.DockWidgetArea.RightDockWidgetArea
