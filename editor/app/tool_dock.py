@@ -46,13 +46,18 @@ class ToolDock(QtWidgets.QTabWidget):
             footer.setContentsMargins(8, 4, 8, 8)
             page_layout.addWidget(footer)
             self.addTab(page, tool.title)
-            self.setTabToolTip(self.count() - 1, tool.summary)
+            self.setTabToolTip(self.count() - 1, tool.summary + (f"\nMethod: {tool.method}." if tool.method else ""))
             self.panels.append(panel)
         self.currentChanged.connect(lambda _i: window.previews.discard_preview())
 
     def panel(self, key: str) -> ToolPanel | None:
         """The panel of the tool registered as ``key`` (``"smooth"``)."""
         return next((p for p in self.panels if p.tool.key == key), None)
+
+    def set_units(self, units) -> None:
+        """Every panel shows its settings in ``units`` (View ▸ Units)."""
+        for panel in self.panels:
+            panel.set_units(units)
 
     def current_panel(self) -> ToolPanel | None:
         i = self.currentIndex()
