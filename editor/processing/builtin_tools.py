@@ -71,7 +71,8 @@ SMOOTH = ToolDescriptor(
         "horizontal_sigma_m": ControlSpec(
             label="Position scatter", more=True, **SCATTER_RANGE,
             tip=POSITION_SCATTER + " The smoother trusts each point less the larger this is. Used as set "
-            "unless “Estimate scatter from the track” is ticked."),
+            "unless “Estimate scatter from the track” is ticked. Raise it for a track recorded under trees "
+            "or in a city."),
         "vertical_sigma_m": ControlSpec(
             label="Elevation scatter", more=True, **SCATTER_RANGE,
             tip=ELEVATION_SCATTER + " Lower it for a barometric recorder, or tick “Estimate scatter from "
@@ -93,8 +94,8 @@ SMOOTH = ToolDescriptor(
     cli_options=(
         CliOption(
             "--smooth",
-            "smoothing: auto (maximum likelihood, default), off, or a strength as in the editor's "
-            "smoothing panel: 0 keeps the recording exactly, 100 is the smoothest",
+            "smoothing: auto (the strength estimated from the track, default), off, or a strength as "
+            "in the editor's Smooth tab: 0 keeps the recording exactly, 100 is the smoothest",
             parse=smooth_option,
             metavar="auto|off|STRENGTH",
         ),
@@ -123,11 +124,12 @@ DESPIKE = ToolDescriptor(
         "min_horizontal_sigma_m": ControlSpec(
             label="Lowest position scatter", maximum=50, step=0.5, decimals=1, more=True,
             tip="The estimated position scatter is never taken below this. Recorders that smooth their own "
-            "output look steadier than they are, and too small a scatter would question real turns."),
+            "output look steadier than they are, and too small a scatter would question real turns. Lower it for "
+            "a survey-grade receiver."),
         "min_vertical_sigma_m": ControlSpec(
             label="Lowest elevation scatter", maximum=50, step=0.5, decimals=1, more=True,
             tip="The estimated elevation scatter is never taken below this, so heights stored in whole "
-            "units are not mistaken for exact ones."),
+            "units are not mistaken for exact ones. Lower it for a recorder that stores heights to the centimetre."),
         "check_elevation": ControlSpec(
             label="Check elevations",
             tip="Also remove points whose height jumps away and back. Untick for a track whose heights you "
@@ -135,7 +137,8 @@ DESPIKE = ToolDescriptor(
         "check_speed": ControlSpec(
             label="Check speeds",
             tip="Remove points you could only have reached faster than the activity allows, such as a run "
-            "of wild points after a cold start."),
+            "of wild points after a cold start. Untick it for a track that mixes ways of travelling, such as a "
+            "train ride in the middle of a walk."),
         "iterations": ControlSpec(
             label="Look again up to", minimum=1, maximum=20, suffix="times", more=True,
             tip="After removing spikes the tool looks again, because a spike can hide the one next to it. "
@@ -162,13 +165,15 @@ DESPIKE = ToolDescriptor(
             "find the road again."),
         "catch_up_context_s": ControlSpec(
             label="… judged on the next", minimum=10, maximum=600, step=10, decimals=0, more=True,
-            tip="How much of the track after the catch-up (and before the gap) shows where you really went."),
+            tip="How much of the track after the catch-up (and before the gap) shows where you really went. "
+            "Lower it when gaps come close together."),
         "catch_up_passes": ControlSpec(
             label="… over after", minimum=1, maximum=50, suffix="good points", more=True,
             tip="The catch-up ends at this many good points in a row. Raise it if the tail of a catch-up stays."),
         "min_gap_s": ControlSpec(
             label="Shortest gap checked", maximum=3600, step=1, decimals=0, more=True,
-            tip="A step at least this long counts as a gap (lost signal) whose catch-up is checked."),
+            tip="A step at least this long counts as a gap (lost signal) whose catch-up is checked. Raise it to "
+            "leave short drop-outs unchecked."),
     },
     batch_order=10,
     accepts=PLANE_AND_TOTALS,
@@ -196,11 +201,13 @@ FILL_GAPS = ToolDescriptor(
         "max_gap_s": ControlSpec(
             label="Longest gap filled", maximum=7200, step=10, decimals=0,
             tip="Longer gaps are not filled: the further the guess reaches, the less it is worth. Counted as "
-            "recorded, before the Spikes tool removed points beside the gap."),
+            "recorded, before the Spikes tool removed points beside the gap. Raise it for slow travel, where a "
+            "minute covers little ground."),
         "long_gap": ControlSpec(
             label="Longer gaps", choices=(("leave", "leave as they are"), ("split", "split the segment")),
             tip="What happens at a gap too long to fill: leave it, or start a new segment there so that "
-            "the straight jump adds no distance or time."),
+            "the straight jump adds no distance or time. Choose split when a long gap was a train ride or a "
+            "drive you do not want counted."),
         **SCATTER,
         "context_s": ControlSpec(
             label="Track used each side", minimum=5, maximum=3600, step=5, decimals=0, more=True,
@@ -208,14 +215,15 @@ FILL_GAPS = ToolDescriptor(
             "road, raise it on a straight one."),
         "mark_inserted": ControlSpec(
             label="Mark added points in the file", more=True,
-            tip="Saved copies say which points were added, so they can be told apart from recorded points later."),
+            tip="Saved copies say which points were added, so they can be told apart from recorded points later. "
+            "Untick it if another program you use stumbles over the marks."),
     },
     batch_order=20,
     accepts=PLANE_AND_TOTALS | {"inserted_marker"},
     cli_options=(
         CliOption(
             "--max-gap",
-            "longest gap to fill, seconds, as recorded: the catch-up removed after a gap "
+            "longest gap filled, in seconds, counted as recorded: the catch-up removed after a gap "
             "does not count (default {default:g})",
             parse=lambda text: {"max_gap_s": positive(text)},
             metavar="SECONDS",
@@ -249,14 +257,15 @@ COLLAPSE_STOPS = ToolDescriptor(
         "min_duration_s": ControlSpec(
             label="Shortest stop", maximum=3600, step=5, decimals=0,
             tip="Stops shorter than this are left alone: a traffic light or a gate adds little and is "
-            "often slow movement."),
+            "often slow movement. Lower it to collapse short waits too."),
         "window_s": ControlSpec(
             label="Speed averaged over", minimum=1, maximum=600, step=1, decimals=0, more=True,
             tip="The speed is measured between the average positions this long before and after each point, "
             "which evens out jitter. Raise it for a jittery recorder, lower it for a short stop."),
         "elevation": ControlSpec(
             label="Elevation at stops", choices=(("median", "median of the stop"), ("keep", "keep as recorded")),
-            tip="Give a stop one height (so waiting adds no climb), or keep its heights as recorded."),
+            tip="Give a stop one height (so waiting adds no climb), or keep its heights as recorded. Choose keep "
+            "if you stopped on something that moves up or down, such as a lift."),
     },
     batch_order=30,
     accepts=PLANE_AND_TOTALS,
@@ -276,7 +285,7 @@ SIMPLIFY = ToolDescriptor(
             label="Thin by", choices=(("rdp", "distance from the line"), ("vw", "size of each bend")),
             method="Ramer–Douglas–Peucker (distance) or Visvalingam–Whyatt (bend size)",
             tip="Distance keeps every point that lies further than the largest shift from the thinned line. "
-            "Bend size drops the smallest bends first, which keeps the look of a winding road."),
+            "Bend size drops the smallest bends first: choose it to keep the look of a winding road."),
         "tolerance_m": ControlSpec(
             label="Largest shift", maximum=500, step=1, decimals=1,
             tip="When thinning by distance: how far the thinned track may pass from a removed point. "
@@ -284,7 +293,8 @@ SIMPLIFY = ToolDescriptor(
         "vertical_tolerance_m": ControlSpec(
             label="Largest height shift", maximum=200, step=0.5, decimals=1, auto_text="ignore",
             tip="When thinning by distance: also keep points whose height is further than this from the "
-            "thinned profile, so climbs survive. “ignore” looks at the map line only."),
+            "thinned profile, so climbs survive. “ignore” looks at the map line only; set it when the ascent "
+            "of the thinned track matters."),
         "area_m2": ControlSpec(
             label="Smallest bend kept", maximum=100000, step=10, decimals=0,
             tip="When thinning by bend size: bends smaller than this area (a point and its two neighbours) "
@@ -292,7 +302,8 @@ SIMPLIFY = ToolDescriptor(
         "target_points": ControlSpec(
             label="Thin down to", maximum=10_000_000, step=100, suffix="points", auto_text="any",
             tip="When thinning by bend size: remove the smallest bends until this many points remain, "
-            "whatever their size. “any” uses the smallest bend kept instead."),
+            "whatever their size. “any” uses the smallest bend kept instead. Set it to meet a device's limit "
+            "on points per track."),
     },
     # last, and only on request: thinning is a presentation choice
     batch_order=50,
@@ -301,15 +312,16 @@ SIMPLIFY = ToolDescriptor(
     cli_options=(
         CliOption(
             "--simplify",
-            "thin the cleaned track to this horizontal tolerance in metres (default off)",
+            "thin the cleaned track by distance: the largest shift, in metres, of the thinned track "
+            "from a removed point (default off)",
             parse=simplify_option,
             metavar="METRES",
             turns_on=True,
         ),
         CliOption(
             "--simplify-vertical",
-            "vertical tolerance of --simplify, so climbs survive (default: "
-            "the same number of metres as --simplify; off: horizontal only)",
+            "largest height shift of --simplify, in metres, so climbs survive (default: "
+            "the same number of metres as --simplify; off: the map line only)",
             parse=simplify_vertical_option,
             metavar="METRES|off",
         ),
@@ -338,7 +350,8 @@ ELEVATION = ToolDescriptor(
             ("replace", "replace every height"),
             ("fill", "fill missing heights only")),
             tip="Combine keeps the small ups and downs your recorder saw and takes the drift out with the "
-            "terrain. Replace uses the terrain only; fill adds heights where the recording has none."),
+            "terrain. Replace uses the terrain only; fill adds heights where the recording has none. Choose fill "
+            "when only a few points lack a height."),
         "terrain_sigma_m": ControlSpec(
             label="Terrain height error", maximum=50, step=0.5, decimals=1, method=ONE_SIGMA,
             tip="How far the terrain files' heights typically are from the true ground, from one point to "
@@ -347,7 +360,8 @@ ELEVATION = ToolDescriptor(
             label="Position error after smoothing", maximum=50, step=0.5, decimals=1, more=True,
             method=ONE_SIGMA,
             tip="How far the smoothed positions may still be off. On steep ground this makes a terrain "
-            "height less certain, since a small shift sideways reads a different height."),
+            "height less certain, since a small shift sideways reads a different height. Raise it if the "
+            "positions are poor or were not smoothed."),
         "disagreement_sigmas": ControlSpec(
             label="Terrain set aside when off by", minimum=2, maximum=20, step=0.5, decimals=1,
             suffix="× the expected error",
@@ -356,7 +370,8 @@ ELEVATION = ToolDescriptor(
             "Lower it to catch smaller bridges."),
         "min_stretch_points": ControlSpec(
             label="… for at least", minimum=1, maximum=1000, suffix="points", more=True,
-            tip="Shorter disagreements are treated as terrain error, not a bridge or a tunnel."),
+            tip="Shorter disagreements are treated as terrain error, not a bridge or a tunnel. Raise it if a short "
+            "dip of the terrain is reported as a bridge."),
     },
     batch_order=45,
     accepts=PLANE_AND_TOTALS | {"want_std", "terrain"},
