@@ -158,7 +158,8 @@ DESPIKE = ToolDescriptor(
         "check_catch_up": ControlSpec(
             label="Check the catch-up after gaps",
             tip="After a gap (a tunnel, a pocket) the first points often arrive from far away and converge on "
-            "the road. Remove them, so the Gaps tool can fill a plausible path instead."),
+            "the road. Remove them, so the Gaps tool can fill a plausible path instead. Untick it if good points "
+            "after short gaps are removed."),
         "catch_up_window_s": ControlSpec(
             label="… within the first", minimum=5, maximum=300, step=5, decimals=0, more=True,
             tip="How long after a gap to look for the catch-up. Raise it if the receiver takes longer to "
