@@ -107,7 +107,7 @@ DESPIKE = ToolDescriptor(
     label="Remove spikes",
     title="Spikes",
     summary=(
-        "Finds wild fixes (a jump out and straight back, an impossible speed, the drift back to the road after "
+        "Finds wild points (a jump out and straight back, an impossible speed, the drift back to the road after "
         "signal loss) and removes them; the Gaps tool can refill them."
     ),
     method="Kalman filter innovation gate, then a speed and acceleration check",
