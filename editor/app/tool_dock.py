@@ -9,8 +9,10 @@ from PySide6 import QtCore, QtWidgets
 from ..panels.elevation_panel import ElevationPanel
 from ..panels.smoothing_panel import SmoothingPanel
 from ..panels.tool_panel import ToolPanel
+from ..processing.proposal import PlaceNote
 from ..processing.smoothing import estimate_strength
 from ..processing.tools import TOOLS
+from ..units import METRIC, UnitSystem
 
 #: The panel class for each descriptor's ``panel`` kind.
 PANEL_KINDS: dict[str, type[ToolPanel]] = {"standard": ToolPanel, "strength": SmoothingPanel,
@@ -55,9 +57,12 @@ class ToolDock(QtWidgets.QTabWidget):
         return next((p for p in self.panels if p.tool.key == key), None)
 
     def set_units(self, units) -> None:
-        """Every panel shows its settings in ``units`` (View ▸ Units)."""
+        """Every panel shows its settings in ``units`` (View ▸ Units), and the preview's status too."""
         for panel in self.panels:
             panel.set_units(units)
+        preview = self.window_.state.preview
+        if preview is not None:
+            self.preview_changed(preview)
 
     def current_panel(self) -> ToolPanel | None:
         i = self.currentIndex()
@@ -118,17 +123,17 @@ class ToolDock(QtWidgets.QTabWidget):
         noop = proposal.is_noop()
         panel.set_has_preview(True, applicable=not noop)
         extra = panel.describe(proposal) if isinstance(panel, ElevationPanel) else ""
-        panel.set_status(proposal_status(proposal, noop, extra))
+        panel.set_status(proposal_status(proposal, noop, extra, units=self.window_.units))
 
 
 def _count(n: int, word: str) -> str:
     return f"{n:,} {word}{'' if n == 1 else 's'}"
 
 
-def proposal_status(proposal, noop: bool, extra: str = "") -> str:
-    """What a preview does, for the panel: counts, or that it changes nothing; and what was left alone.
-    ``extra``: what the panel adds (the terrain's coverage)."""
-    notes = [str(n) for n in proposal.info.get("notes", ())]
+def proposal_status(proposal, noop: bool, extra: str = "", units: UnitSystem = METRIC) -> str:
+    """What a preview does, for the panel: counts, or that it changes nothing; and what was left alone
+    (places along the track in ``units``). ``extra``: what the panel adds (the terrain's coverage)."""
+    notes = [n.in_units(units.long) if isinstance(n, PlaceNote) else str(n) for n in proposal.info.get("notes", ())]
     left = (" Left alone: " + "; ".join(notes) + ".") if notes else ""
     if noop:
         return "Nothing to apply: with these settings the tool changes nothing." + left

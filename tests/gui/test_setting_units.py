@@ -124,3 +124,22 @@ def test_percent_and_unitless_settings_do_not_change_with_units(window, qtbot):
     assert confidence.editor.text() == "99.9 %" and confidence.value() == 0.999
     assert panel.controls["trust_s"].editor.suffix() == " s"
     assert panel.controls["max_zone_points"].editor.suffix() == " points"
+
+
+def test_a_gap_left_alone_is_placed_in_miles_and_back_in_km(window, qtbot):
+    assert window.files.open_path(TUNNEL)
+    choose_units(window, "imperial")
+    panel = open_tab(qtbot, window, "fill_gaps")
+    max_gap = panel.controls["max_gap_s"]
+    assert max_gap.editor.suffix() == " s"  # seconds are seconds in both systems
+    type_number(qtbot, max_gap.editor, "60")
+    qtbot.mouseClick(panel.preview_button, LEFT)
+    qtbot.waitUntil(lambda: window.state.preview is not None and window.state.preview.tool == "fill_gaps"
+                    and window.state.preview.info.get("unfilled") == 1, timeout=30000)
+    qtbot.wait(30)
+    (note,) = window.state.preview.info["notes"]
+    km = note.at_m / 1000
+    assert f"gap at {note.at_m / 1609.344:.1f} mi:" in panel.status.text() and " km" not in panel.status.text()
+    choose_units(window, "metric")  # the shown status follows the menu at once
+    assert f"gap at {km:.1f} km:" in panel.status.text()
+    assert str(note) in panel.status.text()  # the command line's text is the metric one
