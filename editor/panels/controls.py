@@ -130,6 +130,11 @@ class ParamControl(QtWidgets.QWidget):
         self.kind = self._kind(default, type_text, spec)
         if self.kind == "choice":
             self.editor = QtWidgets.QComboBox()
+            # a long choice ("combine if the track has heights, else replace") must not widen the
+            # whole panel past its dock: the box shows what fits, its list shows every word
+            self.editor.setSizeAdjustPolicy(
+                QtWidgets.QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
+            self.editor.setMinimumContentsLength(14)
             for choice in spec.choices or ():
                 value, text = choice if isinstance(choice, tuple) else (choice, str(choice))
                 self.editor.addItem(text, value)

@@ -177,3 +177,10 @@ def test_the_legend_explains_the_band_without_symbols(window):
         assert not STATISTICS.search(text) and "1.96" not in text, text
     assert "95 %" in dict(ENTRIES)["band"]
     assert TIPS["band"].splitlines()[-1].startswith("Method: ±1.96 standard deviations")
+
+
+def test_every_panel_fits_the_tool_docks_first_width(window):
+    # 440 px: the tool dock's first width (MainWindow.resizeDocks); longer words must wrap or be cut
+    # inside their box, never push the panel past the dock (a long choice once widened it to 522 px)
+    for panel in window.tool_dock.panels:
+        assert panel.minimumSizeHint().width() <= 440, (panel.tool.key, panel.minimumSizeHint().width())
