@@ -6,6 +6,7 @@ from dataclasses import replace
 import numpy as np
 from PySide6 import QtCore, QtWidgets
 
+from ..panels.controls import tooltip_lines
 from ..panels.elevation_panel import ElevationPanel
 from ..panels.smoothing_panel import SmoothingPanel
 from ..panels.tool_panel import ToolPanel
@@ -48,7 +49,8 @@ class ToolDock(QtWidgets.QTabWidget):
             footer.setContentsMargins(8, 4, 8, 8)
             page_layout.addWidget(footer)
             self.addTab(page, tool.title)
-            self.setTabToolTip(self.count() - 1, tool.summary + (f"\nMethod: {tool.method}." if tool.method else ""))
+            self.setTabToolTip(self.count() - 1,
+                               tooltip_lines(tool.summary, f"Method: {tool.method}." if tool.method else ""))
             self.panels.append(panel)
         self.currentChanged.connect(lambda _i: window.previews.discard_preview())
 

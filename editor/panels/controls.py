@@ -13,6 +13,7 @@ from __future__ import annotations
 import dataclasses
 import math
 import re
+import textwrap
 from typing import Any
 
 from PySide6 import QtCore, QtWidgets
@@ -52,6 +53,12 @@ def plain_text(doc: str) -> str:
     """A docstring fragment without reST markup: ``x`` and :role:`x` become x."""
     text = re.sub(r":[a-z]+:`~?([^`]*)`", r"\1", doc)
     return text.replace("``", "").replace("`", "")
+
+
+def tooltip_lines(*paragraphs: str, width: int = 72) -> str:
+    """Paragraphs as a plain-text tooltip, each wrapped (Qt shows a plain tooltip's lines as they are,
+    so an unwrapped sentence would stretch across the screen)."""
+    return "\n".join(textwrap.fill(p, width) for p in paragraphs if p)
 
 
 def nice_step(step: float) -> float:
@@ -193,7 +200,7 @@ class ParamControl(QtWidgets.QWidget):
             lines.append(f"Unit: {UNIT_WORDS[self.shown_unit]} ({self.shown_unit}).")
         if self.spec.method:
             lines.append(f"Method: {self.spec.method}.")
-        return "\n".join(lines)
+        return tooltip_lines(*lines)
 
     # --- units ------------------------------------------------------------------------------------
     def set_units(self, units: UnitSystem) -> None:

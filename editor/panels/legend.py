@@ -4,6 +4,7 @@ from __future__ import annotations
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from ..views.style import Palette
+from .controls import tooltip_lines
 
 
 def _swatch(palette: Palette, kind: str, size: int = 22) -> QtGui.QPixmap:
@@ -111,8 +112,9 @@ class LegendPanel(QtWidgets.QWidget):
             label = QtWidgets.QLabel(text)
             label.setWordWrap(True)
             if kind in TIPS:
-                icon.setToolTip(TIPS[kind])
-                label.setToolTip(TIPS[kind])
+                tip = tooltip_lines(*TIPS[kind].split("\n"))
+                icon.setToolTip(tip)
+                label.setToolTip(tip)
             grid.addWidget(icon, row, col)
             grid.addWidget(label, row, col + 1)
         grid.setColumnStretch(1, 1)
