@@ -12,8 +12,8 @@ from ..panels.smoothing_panel import SmoothingPanel
 from ..panels.tool_panel import ToolPanel
 from ..processing.proposal import PlaceNote
 from ..processing.smoothing import estimate_strength
+from ..units import METRIC, UnitSystem  # (above the registry's import only to keep merges apart)
 from ..processing.tools import TOOLS
-from ..units import METRIC, UnitSystem
 
 #: The panel class for each descriptor's ``panel`` kind.
 PANEL_KINDS: dict[str, type[ToolPanel]] = {"standard": ToolPanel, "strength": SmoothingPanel,
