@@ -12,7 +12,7 @@ from ..panels.smoothing_panel import SmoothingPanel
 from ..panels.tool_panel import ToolPanel
 from ..processing.proposal import PlaceNote
 from ..processing.smoothing import estimate_strength
-from ..units import METRIC, UnitSystem  # (above the registry's import only to keep merges apart)
+from ..units import METRIC, UnitSystem
 from ..processing.tools import TOOLS
 
 #: The panel class for each descriptor's ``panel`` kind.
