@@ -45,6 +45,21 @@ class UnitSystem:
             return "–"
         return f"{mps / self.speed_mps:,.{digits}f} {self.speed_name}"
 
+    def setting_unit(self, stored_unit: str) -> tuple[float, str]:
+        """How a tool setting stored in ``stored_unit`` is shown in this system.
+
+        Returns the size of one shown unit in the stored unit, and the shown unit's name: metres
+        become the short unit (m, ft), square metres its square, metres per second the speed unit
+        (km/h, mph). Any other unit (seconds, points, %) is shown as it is stored.
+        """
+        if stored_unit == "m":
+            return self.short_m, self.short_name
+        if stored_unit == "m²":
+            return self.short_m ** 2, self.short_name + "²"
+        if stored_unit == "m/s":
+            return self.speed_mps, self.speed_name
+        return 1.0, stored_unit
+
     def nice_length(self, max_metres: float) -> tuple[float, str]:
         """Largest round length (1, 2 or 5 × 10^k of a unit) not above ``max_metres``.
 
@@ -70,6 +85,10 @@ METRIC = UnitSystem("metric", "km", 1000.0, "m", 1.0, "km/h", 1000.0 / 3600.0)
 #: International mile (1609.344 m) and foot (0.3048 m), by the 1959 international yard and pound agreement.
 IMPERIAL = UnitSystem("imperial", "mi", 1609.344, "ft", 0.3048, "mph", 1609.344 / 3600.0)
 UNIT_SYSTEMS = {u.key: u for u in (METRIC, IMPERIAL)}
+#: The words for the units a setting may be shown in (its tooltip names the unit in full).
+UNIT_WORDS = {"m": "metres", "ft": "feet", "m²": "square metres", "ft²": "square feet", "s": "seconds",
+              "km/h": "kilometres per hour", "mph": "miles per hour", "m/s": "metres per second",
+              "%": "percent", "km": "kilometres", "mi": "miles"}
 
 
 def format_duration(seconds: float) -> str:

@@ -6,10 +6,13 @@ from dataclasses import replace
 import numpy as np
 from PySide6 import QtWidgets
 
+from ..panels.controls import tooltip_lines
 from ..panels.elevation_panel import ElevationPanel
 from ..panels.smoothing_panel import SmoothingPanel
 from ..panels.tool_panel import ToolPanel
+from ..processing.proposal import PlaceNote
 from ..processing.smoothing import estimate_strength
+from ..units import METRIC, UnitSystem
 from ..processing.tools import TOOLS
 from .scrolling import SteadyScrollArea
 
@@ -43,13 +46,22 @@ class ToolDock(QtWidgets.QTabWidget):
             footer.setContentsMargins(8, 4, 8, 8)
             page_layout.addWidget(footer)
             self.addTab(page, tool.title)
-            self.setTabToolTip(self.count() - 1, tool.summary)
+            self.setTabToolTip(self.count() - 1,
+                               tooltip_lines(tool.summary, f"Method: {tool.method}." if tool.method else ""))
             self.panels.append(panel)
         self.currentChanged.connect(lambda _i: window.previews.discard_preview())
 
     def panel(self, key: str) -> ToolPanel | None:
         """The panel of the tool registered as ``key`` (``"smooth"``)."""
         return next((p for p in self.panels if p.tool.key == key), None)
+
+    def set_units(self, units) -> None:
+        """Every panel shows its settings in ``units`` (View ▸ Units), and the preview's status too."""
+        for panel in self.panels:
+            panel.set_units(units)
+        preview = self.window_.state.preview
+        if preview is not None:
+            self.preview_changed(preview)
 
     def current_panel(self) -> ToolPanel | None:
         i = self.currentIndex()
@@ -110,17 +122,17 @@ class ToolDock(QtWidgets.QTabWidget):
         noop = proposal.is_noop()
         panel.set_has_preview(True, applicable=not noop)
         extra = panel.describe(proposal) if isinstance(panel, ElevationPanel) else ""
-        panel.set_status(proposal_status(proposal, noop, extra))
+        panel.set_status(proposal_status(proposal, noop, extra, units=self.window_.units))
 
 
 def _count(n: int, word: str) -> str:
     return f"{n:,} {word}{'' if n == 1 else 's'}"
 
 
-def proposal_status(proposal, noop: bool, extra: str = "") -> str:
-    """What a preview does, for the panel: counts, or that it changes nothing; and what was left alone.
-    ``extra``: what the panel adds (the terrain's coverage)."""
-    notes = [str(n) for n in proposal.info.get("notes", ())]
+def proposal_status(proposal, noop: bool, extra: str = "", units: UnitSystem = METRIC) -> str:
+    """What a preview does, for the panel: counts, or that it changes nothing; and what was left alone
+    (places along the track in ``units``). ``extra``: what the panel adds (the terrain's coverage)."""
+    notes = [n.in_units(units.long) if isinstance(n, PlaceNote) else str(n) for n in proposal.info.get("notes", ())]
     left = (" Left alone: " + "; ".join(notes) + ".") if notes else ""
     if noop:
         return "Nothing to apply: with these settings the tool changes nothing." + left

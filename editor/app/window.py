@@ -178,6 +178,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.profile_view.units = self.units
         self.profile_view.set_time_axis(self.settings.profile_against_time, self.utc_offset_h)
         self.totals_panel.set_units(self.units)
+        self.tool_dock.set_units(self.units)  # tool settings too: converted for display, stored in SI
         self.splitter.setOrientation(QtCore.Qt.Orientation.Vertical if self.settings.stacked
                                      else QtCore.Qt.Orientation.Horizontal)
         self.status_units.setText(f"{self.units.long_name} · {self.units.short_name} · "

@@ -105,7 +105,8 @@ def add_parser(subparsers: Any) -> argparse.ArgumentParser:
                    help="terrain raster (GeoTIFF etc.) or folder of them; repeatable. Adds the elevation "
                         "step. Terrain heights are the ground, not a bridge or a tunnel")
     p.add_argument("--activity", choices=(AUTO, *ACTIVITIES), default=AUTO,
-                   help="limits for spikes and stops (default auto: inferred from each track's speeds)")
+                   help="how you travelled: sets the limits of spikes, gaps and stops (default auto: guessed "
+                        "from each track's speeds)")
     p.add_argument("--overwrite", action="store_true", help="replace output files that already exist "
                                                             "(an input is never replaced)")
     p.set_defaults(run=cmd_clean)

@@ -1,20 +1,25 @@
 """Controls built from a tool's parameter dataclass.
 
 Each numeric, boolean or choice field of the parameters becomes one control;
-its label and range come from :class:`ControlSpec` when the panel gives one,
+its label, range and tooltip come from :class:`ControlSpec` when the panel gives one,
 otherwise from the field's name and unit suffix (``_m`` metres, ``_s`` seconds,
-``_mps`` metres per second), and its tooltip from the dataclass's numpydoc
-``Attributes`` section. Values are kept in the tool's own SI units.
+``_mps`` metres per second) and, for the tooltip, the dataclass's numpydoc
+``Attributes`` section with its markup taken out. Values are kept in the tool's
+own SI units; a number box shows them in the chosen units (``set_units``), so
+switching between metric and imperial never changes the stored value.
 """
 from __future__ import annotations
 
 import dataclasses
+import math
 import re
+import textwrap
 from typing import Any
 
 from PySide6 import QtCore, QtWidgets
 
 from ..processing.descriptor import ControlSpec
+from ..units import METRIC, UNIT_WORDS, UnitSystem
 
 UNIT_SUFFIXES = (("_m2", "m²"), ("_mps", "m/s"), ("_m", "m"), ("_s", "s"), ("_deg", "°"), ("_pct", "%"))
 
@@ -44,6 +49,39 @@ def field_docs(cls: type) -> dict[str, str]:
     return {k: " ".join(v) for k, v in out.items()}
 
 
+def plain_text(doc: str) -> str:
+    """A docstring fragment without reST markup: ``x`` and :role:`x` become x."""
+    text = re.sub(r":[a-z]+:`~?([^`]*)`", r"\1", doc)
+    return text.replace("``", "").replace("`", "")
+
+
+def tooltip_lines(*paragraphs: str, width: int = 72) -> str:
+    """Paragraphs as a plain-text tooltip, each wrapped (Qt shows a plain tooltip's lines as they are,
+    so an unwrapped sentence would stretch across the screen)."""
+    return "\n".join(textwrap.fill(p, width) for p in paragraphs if p)
+
+
+def nice_step(step: float) -> float:
+    """The 1, 2 or 5 × 10^k nearest to ``step`` (on a log scale): a converted step a rider can count in."""
+    if not (step > 0 and math.isfinite(step)):
+        return 1.0
+    exponent = math.floor(math.log10(step))
+    base = 10.0 ** exponent
+    candidates = [c * base for c in (1.0, 2.0, 5.0, 10.0)]
+    return min(candidates, key=lambda c: abs(math.log10(c / step)))
+
+
+class TidySpinBox(QtWidgets.QDoubleSpinBox):
+    """A number box without trailing zeros: "99.9 %" and "16.4 ft", not "99.9000 %" and "5.0 m"."""
+
+    def textFromValue(self, value: float) -> str:  # noqa: N802 (Qt override)
+        text = super().textFromValue(value)
+        point = self.locale().decimalPoint()
+        if point and point in text:
+            text = text.rstrip("0").rstrip(point)
+        return text
+
+
 def _decimals_for(value: Any) -> int:
     """Enough decimals (2 to 6) to show ``value`` exactly."""
     if not isinstance(value, float):
@@ -66,7 +104,11 @@ def default_label(name: str) -> tuple[str, str]:
 
 
 class ParamControl(QtWidgets.QWidget):
-    """One field's control. ``changed`` fires on every user change."""
+    """One field's control. ``changed`` fires on every user change.
+
+    A number keeps its value in the tool's stored unit (``stored_unit``: m, m², m/s, s ...); the
+    box shows it in the chosen units (:meth:`set_units`) times the spec's ``scale``.
+    """
 
     changed = QtCore.Signal()
 
@@ -75,21 +117,31 @@ class ParamControl(QtWidgets.QWidget):
         super().__init__(parent)
         self.name = name
         self.default = default
+        self.spec = spec
         self.optional = default is None or "None" in type_text
         label, unit = default_label(name)
         self.label_text = spec.label or label
-        unit = spec.suffix if spec.suffix is not None else unit
+        self.stored_unit = spec.suffix if spec.suffix is not None else unit
+        self.tip = spec.tip or plain_text(help_text)
+        self.units: UnitSystem = METRIC
+        self.shown_unit = self.stored_unit
+        self._per_shown = 1.0  # stored units in one shown unit
         layout = QtWidgets.QHBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
         self.auto_box: QtWidgets.QCheckBox | None = None
         self.slider: QtWidgets.QSlider | None = None
         self.auto_text = spec.auto_text
-        self._auto_value: float | None = None   # what the tool chose for "auto", once known
-        self._kept_value: float | None = None   # the user's own value from before "auto" was ticked
+        self._auto_value: float | None = None   # what the tool chose for "auto" (stored unit), once known
+        self._stored_value: float = 0.0         # the number, in the stored unit; the box only shows it
         self._showing_auto = False
         self.kind = self._kind(default, type_text, spec)
         if self.kind == "choice":
             self.editor = QtWidgets.QComboBox()
+            # a long choice ("combine if the track has heights, else replace") must not widen the
+            # whole panel past its dock: the box shows what fits, its list shows every word
+            self.editor.setSizeAdjustPolicy(
+                QtWidgets.QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
+            self.editor.setMinimumContentsLength(14)
             for choice in spec.choices or ():
                 value, text = choice if isinstance(choice, tuple) else (choice, str(choice))
                 self.editor.addItem(text, value)
@@ -102,18 +154,15 @@ class ParamControl(QtWidgets.QWidget):
             self.editor.toggled.connect(self.changed)
         else:
             is_int = self.kind == "int"
-            self.editor = QtWidgets.QSpinBox() if is_int else QtWidgets.QDoubleSpinBox()
+            self.editor = QtWidgets.QSpinBox() if is_int else TidySpinBox()
             lo = spec.minimum if spec.minimum is not None else 0.0
             hi = spec.maximum if spec.maximum is not None else 1_000_000.0
             if not is_int:
-                self.editor.setDecimals(spec.decimals if spec.decimals is not None else _decimals_for(default))
-            self.editor.setRange(int(lo) if is_int else lo, int(hi) if is_int else hi)
-            step = spec.step if spec.step is not None else 1.0
-            self.editor.setSingleStep(int(step) if is_int else step)
-            if unit:
-                self.editor.setSuffix(f" {unit}")
+                self.editor.setDecimals(spec.decimals if spec.decimals is not None
+                                        else _decimals_for(default * spec.scale if default is not None else 0.0))
             start = default if isinstance(default, (int, float)) and not isinstance(default, bool) else lo
-            self.editor.setValue(int(start) if is_int else float(start))
+            self._stored_value = float(start)
+            self._show_in_units(METRIC)
             self.editor.setKeyboardTracking(False)
             self.editor.valueChanged.connect(self._spin_changed)
             if spec.slider:
@@ -132,8 +181,7 @@ class ParamControl(QtWidgets.QWidget):
             layout.addWidget(self.auto_box)
             self._auto_toggled(default is None, emit=False)
         self.editor.setAccessibleName(self.label_text)
-        tip = help_text or self.label_text
-        self.setToolTip(tip)
+        self.setToolTip(self.tooltip_text())
 
     @staticmethod
     def _kind(default: Any, type_text: str, spec: ControlSpec) -> str:
@@ -145,7 +193,50 @@ class ParamControl(QtWidgets.QWidget):
             return "int"
         return "float"
 
+    def tooltip_text(self) -> str:
+        """What the setting does and when to change it, the unit it is shown in, and its method."""
+        lines = [self.tip or self.label_text]
+        if self.shown_unit in UNIT_WORDS:
+            lines.append(f"Unit: {UNIT_WORDS[self.shown_unit]} ({self.shown_unit}).")
+        if self.spec.method:
+            lines.append(f"Method: {self.spec.method}.")
+        return tooltip_lines(*lines)
+
+    # --- units ------------------------------------------------------------------------------------
+    def set_units(self, units: UnitSystem) -> None:
+        """Show the number in ``units`` (metric or imperial); the stored value does not change."""
+        self.units = units
+        if self.kind in ("float", "int"):
+            self._show_in_units(units)
+        self.setToolTip(self.tooltip_text())
+
+    def _show_in_units(self, units: UnitSystem) -> None:
+        size, name = units.setting_unit(self.stored_unit)
+        self.shown_unit = name
+        self._per_shown = size / self.spec.scale
+        spec, is_int = self.spec, self.kind == "int"
+        lo = spec.minimum if spec.minimum is not None else 0.0
+        hi = spec.maximum if spec.maximum is not None else 1_000_000.0
+        step = spec.step if spec.step is not None else 1.0
+        if self._per_shown != 1.0:  # a converted step is rounded to one a rider can count in
+            step = nice_step(step / self._per_shown)
+        blocker = QtCore.QSignalBlocker(self.editor)
+        if is_int:
+            self.editor.setRange(int(round(lo / self._per_shown)), int(round(hi / self._per_shown)))
+            self.editor.setSingleStep(max(1, int(round(step))))
+        else:
+            self.editor.setRange(lo / self._per_shown, hi / self._per_shown)
+            self.editor.setSingleStep(step)
+        self.editor.setSuffix(f" {name}" if name else "")
+        if self._showing_auto and self._auto_value is None:
+            self.editor.setValue(self.editor.minimum())
+        else:
+            self._show_number(self._auto_value if self._showing_auto else self._stored_value)
+        del blocker
+
+    # --- user changes -----------------------------------------------------------------------------
     def _spin_changed(self, value) -> None:
+        self._stored_value = float(value) * self._per_shown
         if self.slider is not None and int(round(value)) != self.slider.value():
             self.slider.blockSignals(True)
             self.slider.setValue(int(round(value)))
@@ -161,8 +252,6 @@ class ParamControl(QtWidgets.QWidget):
         if isinstance(self.editor, (QtWidgets.QSpinBox, QtWidgets.QDoubleSpinBox)):
             blockers = [QtCore.QSignalBlocker(w) for w in (self.editor, self.slider) if w]
             if auto:
-                if not self._showing_auto:
-                    self._kept_value = self.editor.value()
                 self._showing_auto = True
                 if self._auto_value is not None:
                     self._show_number(self._auto_value)
@@ -172,9 +261,9 @@ class ParamControl(QtWidgets.QWidget):
             else:
                 self.editor.setSpecialValueText("")
                 if self._showing_auto:
-                    kept = self._auto_value if self._auto_value is not None else self._kept_value
-                    if kept is not None:
-                        self._show_number(kept)
+                    if self._auto_value is not None:
+                        self._stored_value = self._auto_value
+                    self._show_number(self._stored_value)
                 self._showing_auto = False
                 if self.slider is not None:
                     self.slider.setValue(int(round(self.editor.value())))
@@ -185,18 +274,20 @@ class ParamControl(QtWidgets.QWidget):
         if emit:
             self.changed.emit()
 
-    def _show_number(self, value: float) -> None:
+    def _show_number(self, stored: float) -> None:
+        """Put a value in the stored unit into the box (in the shown unit) and onto the slider."""
+        shown = stored / self._per_shown
         self.editor.setSpecialValueText("")
-        self.editor.setValue(int(round(value)) if self.kind == "int" else float(value))
+        self.editor.setValue(int(round(shown)) if self.kind == "int" else float(shown))
         if self.slider is not None:
-            self.slider.setValue(int(round(float(value))))
+            self.slider.setValue(int(round(float(shown))))
 
     def show_auto_value(self, value: float | None) -> None:
         """Show the value the tool chose for "auto" (e.g. the estimated strength); no ``changed``."""
         if value is None or not isinstance(self.editor, (QtWidgets.QSpinBox, QtWidgets.QDoubleSpinBox)):
             return
         if self.kind == "int" or self.editor.decimals() == 0:
-            value = float(round(value))
+            value = float(round(value / self._per_shown)) * self._per_shown
         self._auto_value = value
         if self.auto_box is not None and self.auto_box.isChecked():
             blockers = [QtCore.QSignalBlocker(w) for w in (self, self.editor, self.slider) if w]
@@ -204,16 +295,19 @@ class ParamControl(QtWidgets.QWidget):
             del blockers
 
     def value(self) -> Any:
+        """The value for the tool, in its stored unit (``None``: "auto")."""
         if self.auto_box is not None and self.auto_box.isChecked():
             return None
         if self.kind == "choice":
             return self.editor.currentData()
         if self.kind == "bool":
             return self.editor.isChecked()
-        return self.editor.value()
+        if self.kind == "int":
+            return int(round(self._stored_value))
+        return self._stored_value
 
     def set_value(self, value: Any, emit: bool = False) -> None:
-        """Show ``value`` (``None`` ticks "auto" where there is one)."""
+        """Show ``value``, in the stored unit (``None`` ticks "auto" where there is one)."""
         blockers = [QtCore.QSignalBlocker(w) for w in (self, self.editor, self.slider, self.auto_box) if w]
         if value is None and self.auto_box is not None:
             self.auto_box.setChecked(True)
@@ -227,9 +321,8 @@ class ParamControl(QtWidgets.QWidget):
             elif self.kind == "bool":
                 self.editor.setChecked(bool(value))
             else:
-                self.editor.setValue(int(value) if self.kind == "int" else float(value))
-                if self.slider is not None:
-                    self.slider.setValue(int(round(float(value))))
+                self._stored_value = float(value)
+                self._show_number(self._stored_value)
         del blockers
         if emit:
             self.changed.emit()

@@ -4,6 +4,7 @@ from __future__ import annotations
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from ..views.style import Palette
+from .controls import tooltip_lines
 
 
 def _swatch(palette: Palette, kind: str, size: int = 22) -> QtGui.QPixmap:
@@ -73,7 +74,7 @@ ENTRIES = (
     ("track", "Track now"),
     ("faded", "Before the change"),
     ("proposal", "Proposal"),
-    ("band", "95 % band (±1.96 σ)"),
+    ("band", "Likely true track (95 %)"),
     ("removed", "Removed point"),
     ("inserted", "Added point"),
     ("kept", "Kept point (simplify)"),
@@ -84,6 +85,14 @@ ENTRIES = (
     ("other", "Other track in the file"),
     ("route", "Route"),
 )
+#: What an entry means when the few words need more; the method goes on a secondary line.
+TIPS = {
+    "band": "The shaded band around a proposed profile: where the true heights lie 95 times in 100, by the "
+            "tool's own estimate of its error. Narrow where the recording is steady, wide across a gap.\n"
+            "Method: ±1.96 standard deviations of the smoother's estimate.",
+    "kept": "Simplify shows the points it keeps; the others are removed.",
+    "faded": "While a proposal is shown, the part of the track it changes is drawn faded.",
+}
 
 
 class LegendPanel(QtWidgets.QWidget):
@@ -102,6 +111,10 @@ class LegendPanel(QtWidgets.QWidget):
             icon.setPixmap(_swatch(palette, kind))
             label = QtWidgets.QLabel(text)
             label.setWordWrap(True)
+            if kind in TIPS:
+                tip = tooltip_lines(*TIPS[kind].split("\n"))
+                icon.setToolTip(tip)
+                label.setToolTip(tip)
             grid.addWidget(icon, row, col)
             grid.addWidget(label, row, col + 1)
         grid.setColumnStretch(1, 1)

@@ -40,10 +40,17 @@ class ToolPanel(QtWidgets.QWidget):
         summary.setWordWrap(True)
         summary.setObjectName("caution")
         outer.addWidget(summary)
+        # the published method, for those who want to look it up: a secondary line, never the label
+        self.method_note = QtWidgets.QLabel(f"Method: {tool.method}" if tool.method else "")
+        self.method_note.setObjectName("methodNote")
+        self.method_note.setWordWrap(True)
+        self.method_note.setVisible(bool(tool.method))
+        outer.addWidget(self.method_note)
         box = QtWidgets.QGroupBox("Settings")
         self.form = QtWidgets.QFormLayout(box)
         self.form.setFieldGrowthPolicy(QtWidgets.QFormLayout.FieldGrowthPolicy.AllNonFixedFieldsGrow)
         self.controls: dict[str, ParamControl] = {}
+        self.labels: dict[str, QtWidgets.QLabel] = {}
         # rarely needed settings wait under a collapsed "More settings" (issue 9, item 11)
         self.more_button = QtWidgets.QToolButton()
         self.more_button.setText("More settings")
@@ -60,6 +67,7 @@ class ToolPanel(QtWidgets.QWidget):
             label = QtWidgets.QLabel(control.label_text + ":")
             label.setBuddy(control.editor)
             label.setToolTip(control.toolTip())
+            self.labels[control.name] = label
             more = specs.get(control.name)
             (more_form if more is not None and more.more else self.form).addRow(label, control)
             control.changed.connect(lambda: self.preview_requested.emit(False))
@@ -109,6 +117,13 @@ class ToolPanel(QtWidgets.QWidget):
     def _show_more(self, shown: bool) -> None:
         self.more_box.setVisible(shown)
         self.more_button.setArrowType(QtCore.Qt.ArrowType.DownArrow if shown else QtCore.Qt.ArrowType.RightArrow)
+
+    def set_units(self, units) -> None:
+        """Show lengths, areas and speeds in ``units`` (an :class:`editor.units.UnitSystem`); the
+        parameters the tool receives stay in SI units."""
+        for name, control in self.controls.items():
+            control.set_units(units)
+            self.labels[name].setToolTip(control.toolTip())
 
     def detach_footer(self) -> QtWidgets.QWidget:
         """Take Preview / Apply / Discard and the status out of the panel, for the caller to place

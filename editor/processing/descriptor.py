@@ -27,9 +27,19 @@ OPTIONAL_INPUTS = frozenset({"plane", "before", "want_std", "inserted_marker", "
 
 @dataclass(frozen=True)
 class ControlSpec:
-    """How a panel shows one parameter field. ``None`` members fall back to the field's own data."""
+    """How a panel shows one parameter field. ``None`` members fall back to the field's own data.
+
+    ``label`` and ``tip`` are the rider's words: what the setting does, when to change it and its
+    unit (the panel adds a line naming the unit it shows, metric or imperial). ``method`` names a
+    published method the setting belongs to; the panel shows it as a secondary "Method:" line,
+    never as the label. ``scale`` multiplies the stored value for display (100 shows a fraction as
+    a percentage); lengths, areas and speeds are converted to the chosen units by the panel.
+    """
 
     label: str | None = None
+    tip: str = ""
+    method: str = ""
+    scale: float = 1.0
     minimum: float | None = None
     maximum: float | None = None
     step: float | None = None
@@ -89,6 +99,7 @@ class ToolDescriptor:
         parameter (``CleanParams(fill_gaps=...)``), a proposal's ``tool``.
     label : the action's name, e.g. "Fill gaps" (also the name of the undo step).
     title : the tab's text. summary : one or two sentences for a rider on what it does.
+    method : the published method(s) it uses, shown as a secondary line (never in the summary).
     function : ``f(track, params, *, rows=None, track_index=0, stats_params=..., **optional) -> Proposal``.
     params : the parameter dataclass (every field has a documented default).
     fields : per-field display hints; fields not named still get a control.
@@ -120,6 +131,7 @@ class ToolDescriptor:
     cli_aliases: tuple[str, ...] = ()
     cli_options: tuple[CliOption, ...] = ()
     panel: str = "standard"
+    method: str = ""
 
     def __post_init__(self) -> None:
         unknown = set(self.accepts) - OPTIONAL_INPUTS

@@ -61,7 +61,7 @@ from .activity import Activity
 from .cleaning_base import (PlanarTrack, activity_for, noise_sigma, plane_of, selection_mask, timed_segments,
                             unchanged_proposal)
 from .kalman import Problem
-from .proposal import Proposal, make_proposal
+from .proposal import PlaceNote, Proposal, make_proposal
 from .scalar_search import most_likely
 from .smoothing import LOG10_Q_RANGE
 from .stats import StatsParams, Totals, distance_along
@@ -117,13 +117,13 @@ def find_gaps(t_s: np.ndarray, factor: float, min_gap_s: float) -> tuple[np.ndar
     return np.flatnonzero((dt > factor * median) & (dt >= min_gap_s)), median
 
 
-def gap_note(at_m: float, span_s: float, recorded_s: float | None, params: GapParams) -> str:
+def gap_note(at_m: float, span_s: float, recorded_s: float | None, params: GapParams) -> PlaceNote:
     """Why a gap was not filled, for a rider: ``"gap at 12.4 km: 125 s, over the 120 s limit (left as it is)"``."""
     length = f"{span_s:.0f} s"
     if recorded_s is not None and recorded_s < span_s:
         length += f" ({recorded_s:.0f} s without signal)"
     done = "segment split there" if params.long_gap == "split" else "left as it is"
-    return f"gap at {at_m / 1000:.1f} km: {length}, over the {params.max_gap_s:.0f} s limit ({done})"
+    return PlaceNote(f"gap at {{at}}: {length}, over the {params.max_gap_s:.0f} s limit ({done})", at_m)
 
 
 def _sigma(given, floor, t, *cols) -> float:

@@ -8,7 +8,7 @@ same code path.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, Callable
 
 import numpy as np
 
@@ -17,6 +17,27 @@ from ..model.edits import ReplaceTrackPoints
 from ..model.points import PointTable
 from ..model.transition import share_unchanged, transition_edit
 from .stats import StatsParams, Totals, track_totals
+
+
+class PlaceNote(str):
+    """A note that names a place along the track (``info["notes"]``).
+
+    It is the text with the place in km, for the command line and files; ``in_units`` says the
+    place in the window's units ("gap at 2.1 mi: ..."). ``template`` holds ``{at}`` where the
+    place goes; ``at_m`` is the distance along the track in metres.
+    """
+
+    template: str
+    at_m: float
+
+    def __new__(cls, template: str, at_m: float) -> PlaceNote:
+        note = super().__new__(cls, template.format(at=f"{at_m / 1000:.1f} km"))
+        note.template, note.at_m = template, float(at_m)
+        return note
+
+    def in_units(self, long: Callable[[float, int], str]) -> str:
+        """The note with the place written by ``long(metres, digits)`` (``UnitSystem.long``)."""
+        return self.template.format(at=long(self.at_m, 1))
 
 
 @dataclass

@@ -87,7 +87,7 @@ class SmoothParams:
         position (common practice). Barometric loggers are near 1 m (BMP280
         datasheet: +-0.12 hPa = +-1 m): use ``estimate_noise`` for them.
     estimate_noise : also estimate the measurement variances by maximum likelihood.
-    smooth_elevation, smooth_horizontal : which parts to smooth.
+    smooth_horizontal, smooth_elevation : which parts to smooth.
     """
 
     horizontal_strength: float | None = None
@@ -95,8 +95,9 @@ class SmoothParams:
     horizontal_sigma_m: float = 5.0
     vertical_sigma_m: float = 10.0
     estimate_noise: bool = False
-    smooth_elevation: bool = True
+    # position before elevation, as the strengths above (the panel shows fields in this order)
     smooth_horizontal: bool = True
+    smooth_elevation: bool = True
 
 
 def strength_to_q(strength: float, axis: str) -> float:

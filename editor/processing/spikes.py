@@ -70,7 +70,7 @@ from .catch_up import CatchUpSettings, catch_up_rows
 from .cleaning_base import (PlanarTrack, activity_for, chi2_quantile, keep_proposal, noise_sigma, plane_of,
                             selection_mask, timed_segments, true_runs, window_speed)
 from .kalman import innovations, rts_smooth
-from .proposal import Proposal
+from .proposal import PlaceNote, Proposal
 from .stats import StatsParams, Totals, distance_along
 
 #: Rows of context on each side of a questioned fix in the robust stage.
@@ -355,8 +355,8 @@ def despike(track: Track, params: SpikeParams = SpikeParams(), *, rows: np.ndarr
     if len(unchecked):
         along = distance_along(track)
         window = 2 * params.catch_up_window_s
-        notes = [f"gap at {along[row] / 1000:.1f} km: the points after it do not settle within {window:.0f} s, "
-                 "so a catch-up there was not looked for" for row in unchecked.tolist()]
+        notes = [PlaceNote(f"gap at {{at}}: the points after it do not settle within {window:.0f} s, "
+                           "so a catch-up there was not looked for", along[row]) for row in unchecked.tolist()]
     info = {"activity": activity.name, "sigma_h_m": sigma_h, "sigma_v_m": sigma_v,
             "gate_h": gate_h, "gate_v": gate_v, "confidence": params.confidence,
             "spikes": int(spike.sum()), "speed": int(speed.sum()), "catch_up": int(catch_up.sum()),
