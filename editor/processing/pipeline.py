@@ -151,7 +151,6 @@ def _scalars(info: Mapping[str, Any]) -> dict:
             if isinstance(v, (bool, int, float, str, np.integer, np.floating)) and not isinstance(v, np.ndarray)}
 
 
-
 @dataclass
 class TrackPlan:
     """What the clean does to one track: the activity it runs with (``""`` for an empty track), the
