@@ -1,0 +1,156 @@
+"""Clean up in the window, driven with the mouse: toolbar button, step switches, Apply, Undo.
+
+Outside reference for "equal to the batch": ``trackwright clean``'s own core
+(:func:`editor.processing.pipeline.clean_document`, what the command writes, checked against the
+command's output file in tests/processing/test_clean_up.py) on the same bundled demo ride.
+"""
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+from PySide6 import QtCore, QtWidgets
+from PySide6.QtTest import QTest
+
+from editor import CAUTION
+from editor.io.gpx import read_gpx
+from editor.model.payload import GAP_FILL_MARKER
+from editor.processing.pipeline import CleanParams, clean_document
+
+TUNNEL = Path(__file__).resolve().parents[2] / "demo_tracks" / "demo_tunnel.gpx"
+LEFT = QtCore.Qt.MouseButton.LeftButton
+
+
+@pytest.fixture
+def tunnel(window):
+    window.files.open_path(TUNNEL)
+    yield window
+    window.clean_up.runner.cancel()
+    assert window.clean_up.pool.wait(30)
+
+
+def press(widget: QtWidgets.QWidget) -> None:
+    """A left click in the middle of ``widget``, as a hand does."""
+    QTest.mouseClick(widget, LEFT, QtCore.Qt.KeyboardModifier.NoModifier, widget.rect().center())
+
+
+def toolbar_button(window, name: str) -> QtWidgets.QWidget:
+    toolbar = window.findChild(QtWidgets.QToolBar, "mainToolbar")
+    return toolbar.widgetForAction(window.actions_[name])
+
+
+def wait_result(qtbot, window, previous=None):
+    qtbot.waitUntil(lambda: window.clean_up.result is not None and window.state.preview is not previous
+                    and window.state.preview is window.clean_up.result.proposal, timeout=20000)
+    qtbot.wait(30)  # the views redraw in the next event-loop turn
+    return window.state.preview
+
+
+def same_points(a, b) -> None:
+    for key in ("lat", "lon", "ele"):
+        assert np.array_equal(getattr(a, key), getattr(b, key), equal_nan=True), key
+    assert np.array_equal(a.time.view("int64"), b.time.view("int64"))
+
+
+def test_the_toolbar_button_previews_the_batch_clean_and_apply_is_one_undo_step(tunnel, qtbot):
+    window = tunnel
+    original = read_gpx(TUNNEL)
+    cleaned, report = clean_document(original, inserted_marker=GAP_FILL_MARKER)
+    button = toolbar_button(window, "clean_up")
+    assert button.text() == "Clean up"
+    press(button)
+    proposal = wait_result(qtbot, window)
+    panel = window.clean_up.panel
+    assert window.clean_up.dock.isVisible()
+    # both views draw the combined proposal, the totals show before -> after of the batch clean
+    assert len(window.map_view.proposal_item.getData()[0]) > 0
+    assert len(window.profile_view.proposal_item.getData()[0]) > 0
+    assert len(window.map_view.faded_item.getData()[0]) > 0  # the changed stretches of the recording fade
+    assert window.totals_panel.text_of("Distance")[1] == f"{report.after.distance_m / 1000:,.2f} km"
+    assert proposal.after == report.after
+    same_points(proposal.points, cleaned.tracks[0].points)
+    # the list says what each step did, in a rider's words; the method in the secondary line
+    rows = panel.rows
+    assert [r.switch.text() for r in rows.values()] == ["Spikes", "Gaps", "Stops", "Smooth"]
+    assert rows["despike"].result.text() == "removed 15 points"
+    assert rows["fill_gaps"].result.text() == "filled 1 gap (124 points added)"
+    assert rows["smooth"].result.text().endswith("(estimated)")
+    assert "maximum likelihood" in rows["smooth"].detail.text()
+    assert panel.caution.text() == CAUTION and panel.caution.isVisible()
+    # the tool panel shown beside it offers no Apply for this preview
+    assert not window.tool_dock.current_panel().apply_button.isEnabled()
+    assert window.session.doc.tracks[0].equals(original.tracks[0])
+
+    press(panel.apply_button)
+    assert window.state.preview is None
+    assert window.undo_stack.count() == 1 and window.undo_stack.text(0) == "Clean up"
+    assert window.history.model().rowCount() == 2  # "File as opened" and the one step
+    assert window.session.doc.tracks[0].equals(cleaned.tracks[0])
+    # the saved copy's record lists every step that changed something (stops found none here)
+    assert [r.tool for r in window.editing.cleaning_steps()] == ["despike", "fill_gaps", "smooth"]
+    assert any(value.startswith("auto (") for name, value in window.editing.cleaning_steps()[2].params
+               if name == "horizontal_strength")
+
+    press(toolbar_button(window, "undo"))
+    assert window.session.doc.equals(original)
+    press(toolbar_button(window, "redo"))
+    assert window.session.doc.tracks[0].equals(cleaned.tracks[0])
+
+
+def test_switching_a_step_off_works_the_clean_up_out_again(tunnel, qtbot):
+    window = tunnel
+    original = read_gpx(TUNNEL)
+    QTest.keyClick(window, QtCore.Qt.Key.Key_C,
+                   QtCore.Qt.KeyboardModifier.ControlModifier | QtCore.Qt.KeyboardModifier.ShiftModifier)
+    first = wait_result(qtbot, window)
+    panel = window.clean_up.panel
+    switch = panel.rows["smooth"].switch
+    press(switch)
+    assert not switch.isChecked()
+    second = wait_result(qtbot, window, first)
+    assert panel.rows["smooth"].result.text() == "switched off"
+    without, report = clean_document(original, CleanParams(smooth=None), inserted_marker=GAP_FILL_MARKER)
+    same_points(second.points, without.tracks[0].points)
+    assert second.after == report.after and second.after.distance_m > first.after.distance_m
+    assert window.totals_panel.text_of("Distance")[1] == f"{report.after.distance_m / 1000:,.2f} km"
+    # every step off: nothing to apply
+    for key in ("despike", "fill_gaps", "collapse_stops"):
+        previous = window.state.preview
+        press(panel.rows[key].switch)
+        wait_result(qtbot, window, previous)
+    assert window.state.preview.is_noop()
+    assert not panel.apply_button.isEnabled() and panel.discard_button.isEnabled()
+    press(panel.discard_button)
+    assert window.state.preview is None and window.undo_stack.count() == 0
+
+
+def test_the_menu_entry_opens_it_and_a_tool_preview_takes_over(tunnel, qtbot):
+    window = tunnel
+    tools = next(a.menu() for a in window.menuBar().actions() if a.text() == "&Tools")
+    assert window.actions_["clean_up"] in tools.actions()
+    window.actions_["clean_up"].trigger()
+    wait_result(qtbot, window)
+    panel = window.clean_up.panel
+    assert panel.apply_button.isEnabled()
+    # a tool's own preview replaces the clean up's: its Apply goes, its words are cleared
+    smooth = window.tool_dock.panel("smooth")
+    window.tools_dock.raise_()
+    window.tool_dock.show_panel(smooth)
+    press(smooth.preview_button)
+    qtbot.waitUntil(lambda: window.state.preview is not None and window.state.preview.tool == "smooth",
+                    timeout=20000)
+    assert not panel.apply_button.isEnabled()
+    assert panel.rows["despike"].result.text() == ""
+
+
+def test_the_panel_fits_a_small_laptop_screen(tunnel, qtbot):
+    window = tunnel
+    window.resize(1280, 720)
+    press(toolbar_button(window, "clean_up"))
+    wait_result(qtbot, window)
+    panel = window.clean_up.panel
+    for widget in (panel.apply_button, panel.discard_button, panel.caution):
+        top_left = widget.mapTo(window, QtCore.QPoint(0, 0))
+        assert widget.isVisible()
+        assert window.rect().contains(QtCore.QRect(top_left, widget.size())), widget
