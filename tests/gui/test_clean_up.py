@@ -154,3 +154,19 @@ def test_the_panel_fits_a_small_laptop_screen(tunnel, qtbot):
         top_left = widget.mapTo(window, QtCore.QPoint(0, 0))
         assert widget.isVisible()
         assert window.rect().contains(QtCore.QRect(top_left, widget.size())), widget
+
+
+def test_with_terrain_chosen_the_terrain_step_is_offered_as_in_the_batch(tunnel, qtbot):
+    from editor.terrain import Terrain
+
+    window = tunnel
+    terrain = Terrain.open([TUNNEL.with_suffix(".terrain.tif")])
+    window.tool_dock.panel("elevation").set_terrain(terrain)  # as its "Terrain files…" button does
+    press(toolbar_button(window, "clean_up"))
+    proposal = wait_result(qtbot, window)
+    panel = window.clean_up.panel
+    assert list(panel.rows) == ["despike", "fill_gaps", "collapse_stops", "smooth", "elevation"]
+    assert panel.rows["elevation"].result.text() == "terrain combined with the recorded heights"
+    cleaned, report = clean_document(read_gpx(TUNNEL), inserted_marker=GAP_FILL_MARKER, terrain=terrain)
+    same_points(proposal.points, cleaned.tracks[0].points)
+    assert proposal.after == report.after

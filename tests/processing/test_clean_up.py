@@ -180,3 +180,19 @@ def test_chained_row_maps_follow_every_row_through_the_steps(chain):
 def test_a_row_map_past_its_input_is_refused():
     with pytest.raises(ValueError, match="row 3"):
         chain_source_rows([np.array([0, 3])], 3)
+
+
+def test_with_terrain_the_elevation_step_runs_and_smoothing_leaves_heights_to_it(tunnel):
+    from editor.terrain import Terrain
+
+    terrain = Terrain.open([DEMO / "demo_tunnel.terrain.tif"])
+    cleaned, report = clean_document(tunnel, terrain=terrain)
+    result = clean_up_track(tunnel.tracks[0], 0, terrain=terrain)
+    assert [o.tool.key for o in result.steps] == ["despike", "fill_gaps", "collapse_stops", "smooth", "elevation"]
+    smooth = next(o for o in result.steps if o.tool.key == "smooth")
+    assert smooth.params.smooth_elevation is False  # the batch's override, declared by the terrain step
+    assert describe(smooth).text.startswith("position strength")
+    same_points(applied(tunnel, result.proposal).tracks[0].points, cleaned.tracks[0].points)
+    assert result.proposal.after == report.after
+    elevation = next(o for o in result.steps if o.tool.key == "elevation")
+    assert describe(elevation).text == "terrain combined with the recorded heights"
