@@ -19,8 +19,8 @@ os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
 #: A small laptop's screen: the layout must work there.
 SIZE = (1280, 720)
-#: Half-width (metres) of the map's view around the filled gap.
-MAP_HALF_WIDTH_M = 1400.0
+#: The views show this many recorded points either side of the tunnel's removed points.
+ROWS_AROUND = 260
 
 
 def _wait(app, condition, seconds: float = 60.0) -> bool:
@@ -34,6 +34,7 @@ def _wait(app, condition, seconds: float = 60.0) -> bool:
 
 def main(argv: list[str]) -> int:
     out = Path(argv[1]) if len(argv) > 1 else ROOT / "docs" / "screenshot-clean-up.png"
+    import numpy as np
     from PySide6 import QtCore
     from PySide6.QtTest import QTest
 
@@ -58,17 +59,12 @@ def main(argv: list[str]) -> int:
         print("the clean up did not arrive", file=sys.stderr)
         return 1
     proposal = window.state.preview
-    added = proposal.inserted
-    geometry = window.display.geometry
-    if len(added):  # centre the map on the filled gap, as the proposal draws it
-        lat, lon = proposal.points.lat[added], proposal.points.lon[added]
-        xs, ys = window.projection.to_xy(lat, lon)
-        x, y = float(xs.mean()), float(ys.mean())
-    else:
-        row = len(geometry) // 2
-        x, y = float(geometry.x_m[row]), float(geometry.y_m[row])
-    half = MAP_HALF_WIDTH_M
-    window.map_view.view_box.setRange(QtCore.QRectF(x - half, y - half, 2 * half, 2 * half), padding=0)
+    # both views on the tunnel: the points the clean up removes there and the gap it fills
+    removed = proposal.removed
+    middle = int(np.median(removed)) if len(removed) else len(window.display.geometry) // 2
+    rows = np.arange(max(0, middle - ROWS_AROUND), min(len(window.display.geometry), middle + ROWS_AROUND))
+    for view in window.views:
+        view.fit_rows(rows)
     _wait(app, lambda: False, 0.5)
     out.parent.mkdir(parents=True, exist_ok=True)
     window.grab().save(str(out))

@@ -42,7 +42,10 @@ class StepRow(QtWidgets.QWidget):
         self.detail.setObjectName("caution")  # the muted small text
         layout.addWidget(self.switch, 0, 0, QtCore.Qt.AlignmentFlag.AlignTop)
         layout.addWidget(self.result, 0, 1)
-        layout.addWidget(self.detail, 1, 1)
+        # the secondary line starts under the step's name and takes the whole width
+        indent = self.style().pixelMetric(QtWidgets.QStyle.PixelMetric.PM_IndicatorWidth) + 6
+        self.detail.setContentsMargins(indent, 0, 0, 0)
+        layout.addWidget(self.detail, 1, 0, 1, 2)
         layout.setColumnStretch(1, 1)
 
     def set_words(self, text: str, detail: str) -> None:
@@ -77,8 +80,12 @@ class CleanUpPanel(QtWidgets.QWidget):
         intro.setWordWrap(True)
         intro.setObjectName("caution")
         outer.addWidget(intro)
-        self.steps_box = QtWidgets.QGroupBox("Steps")
+        # a plain list, no frame: on a 720-pixel screen every row counts
+        self.steps_box = QtWidgets.QWidget()
+        self.steps_box.setObjectName("panelBody")
         self.steps_layout = QtWidgets.QVBoxLayout(self.steps_box)
+        self.steps_layout.setContentsMargins(0, 0, 0, 0)
+        self.steps_layout.setSpacing(4)
         scroller = QtWidgets.QScrollArea()  # the list scrolls on a short screen; the buttons stay in view
         scroller.setWidgetResizable(True)
         scroller.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
@@ -157,7 +164,7 @@ class CleanUpPanel(QtWidgets.QWidget):
                 parts.append(f"{len(proposal.removed):,} removed")
             if len(proposal.inserted):
                 parts.append(f"{len(proposal.inserted):,} added")
-            self.status.setText("Together: " + ", ".join(parts) + ". Apply keeps it as one step; Discard drops it.")
+            self.status.setText("Together: " + ", ".join(parts) + ".")
 
     def set_working(self) -> None:
         self.status.setText("Working out the clean up…")

@@ -59,12 +59,12 @@ def _spikes(outcome: StepOutcome, _units: UnitSystem) -> tuple[str, str]:
     text = f"removed {_count(removed, 'point')}" if removed else "found no wild points"
     kinds = [(int(info.get("spikes", 0)), "wild point", "wild points"),
              (int(info.get("speed", 0)), "impossible speed", "impossible speeds"),
-             (int(info.get("catch_up", 0)), "drifting back after signal loss", "drifting back after signal loss")]
+             (int(info.get("catch_up", 0)), "after signal loss", "after signal loss")]
     said = [f"{n:,} {one if n == 1 else many}" for n, one, many in kinds if n]
     confidence = info.get("confidence")
-    method = "Kalman filter innovation test"
+    method = "Kalman innovation test"
     if isinstance(confidence, float):
-        method += f" at {confidence * 100:g} % confidence"
+        method += f", {confidence * 100:g} % confidence"
     return text, " · ".join([", ".join(said), method] if said else [method])
 
 
@@ -82,9 +82,9 @@ def _gaps(outcome: StepOutcome, _units: UnitSystem) -> tuple[str, str]:
     if split:
         text += f"; {_count(split, 'longer gap')} split"
     longest = getattr(outcome.params, "max_gap_s", None)
-    detail = "points on the Kalman/RTS smoother's path across the gap"
+    detail = "along the Kalman/RTS smoother's path"
     if isinstance(longest, (int, float)) and math.isfinite(longest):
-        detail += f" · gaps up to {longest:g} s as recorded"
+        detail += f" · up to {longest:g} s as recorded"
     return text, detail
 
 
@@ -101,7 +101,7 @@ def _stops(outcome: StepOutcome, units: UnitSystem) -> tuple[str, str]:
     detail = "points moved onto one place"
     speed = info.get("stop_speed_mps")
     if isinstance(speed, (int, float)) and math.isfinite(speed):
-        detail += f" · a stop is slower than {units.speed(float(speed))} (averaged speed)"
+        detail = f"slower than {units.speed(float(speed))} on average · " + detail
     return text, detail
 
 
@@ -127,7 +127,7 @@ def _smoothing(outcome: StepOutcome, _units: UnitSystem) -> tuple[str, str]:
             text = f"{shown[0][0]} strength {shown[0][1]:.0f}{how}"
     else:
         text = "strength " + ", ".join(f"{v:.0f} {n}" for n, v, _e in shown) + how
-    detail = "Kalman filter with Rauch–Tung–Striebel smoother"
+    detail = "Kalman/RTS smoother"
     if estimated:
         detail += ", strength by maximum likelihood"
     return text, detail + f" · {_moved_removed_added(outcome)}"

@@ -134,7 +134,7 @@ def test_the_step_list_says_what_each_step_did(tunnel):
     result = clean_up_track(tunnel.tracks[0], 0, inserted_marker=GAP_FILL_MARKER)
     words = {o.tool.key: describe(o) for o in result.steps}
     assert words["despike"].text == "removed 15 points"
-    assert "12 drifting back after signal loss" in words["despike"].detail
+    assert "12 after signal loss" in words["despike"].detail
     assert words["fill_gaps"].text == "filled 1 gap (124 points added)"
     assert words["collapse_stops"].text == "found no stop"
     smooth = next(o for o in result.steps if o.tool.key == "smooth").proposal.info
