@@ -170,3 +170,33 @@ def test_with_terrain_chosen_the_terrain_step_is_offered_as_in_the_batch(tunnel,
     cleaned, report = clean_document(read_gpx(TUNNEL), inserted_marker=GAP_FILL_MARKER, terrain=terrain)
     same_points(proposal.points, cleaned.tracks[0].points)
     assert proposal.after == report.after
+
+
+def test_an_applied_clean_up_is_in_the_crash_journal_and_the_saved_copys_record(tmp_path, window, qtbot, dialogs):
+    import shutil
+
+    from editor.recovery import find_journals, replay
+
+    source = tmp_path / "tunnel.gpx"
+    shutil.copy(TUNNEL, source)
+    assert window.files.open_path(source, confirmed=True)
+    press(toolbar_button(window, "clean_up"))
+    wait_result(qtbot, window)
+    press(window.clean_up.panel.apply_button)
+    expected = window.session.doc
+    window.recovery.journal.close()  # as if the editor stopped here
+    window.recovery.recorder = None
+    found, unreadable = find_journals(window.settings.recovery_dir)
+    assert unreadable == [] and len(found) == 1
+    restored = replay(found[0].journal).doc
+    assert restored.tracks[0].equals(expected.tracks[0])
+    found[0].journal.discard()
+    out = tmp_path / "tunnel-cleaned.gpx"
+    assert window.files.write_copy(out)
+    text = out.read_text()
+    # one undo step, yet the cleaning record names each step that changed something
+    for key, label in (("despike", "Remove spikes"), ("fill_gaps", "Fill gaps"), ("smooth", "Smooth track")):
+        assert f'name="{key}" label="{label}"' in text, label
+    assert 'name="collapse_stops"' not in text and 'name="clean_up"' not in text  # stops changed nothing
+    window.clean_up.runner.cancel()
+    assert window.clean_up.pool.wait(30)
