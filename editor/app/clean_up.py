@@ -62,7 +62,14 @@ class CleanUpController(QtCore.QObject):
         self.panel.discard_requested.connect(self.discard)
         self.session.state.preview_changed.connect(self._preview_changed)
         self.dock.visibilityChanged.connect(self._visibility_changed)
+        self.panel.units = window.units
         self.panel.set_steps(offered_steps(self._terrain()))
+
+    def set_units(self, units: Any) -> None:
+        """Say what the steps did in these units (a shown result is described again)."""
+        self.panel.units = units
+        if self._showing() and self.result is not None:
+            self.panel.show_result(self.result)
 
     def _terrain(self) -> Any:
         """The terrain files chosen in the Elevation tool, if any (the terrain step runs only with them)."""
@@ -109,7 +116,6 @@ class CleanUpController(QtCore.QObject):
             return
         self.window.previews.discard_preview()  # a tool's pending preview must not replace this one
         self.result = result
-        self.panel.units = self.window.units
         self.window.map_view.prepare_proposal_xy(result.proposal, xy)
         session.state.set_preview(result.proposal)
         self.panel.show_result(result)

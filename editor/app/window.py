@@ -226,6 +226,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.settings.units = units
         self.profile_view.set_units(units)
         self._apply_display_settings()
+        self.clean_up.set_units(units)
 
     def set_utc_offset(self, hours: float) -> None:
         self.utc_offset_h = hours

@@ -200,3 +200,21 @@ def test_an_applied_clean_up_is_in_the_crash_journal_and_the_saved_copys_record(
     assert 'name="collapse_stops"' not in text and 'name="clean_up"' not in text  # stops changed nothing
     window.clean_up.runner.cancel()
     assert window.clean_up.pool.wait(30)
+
+
+def test_the_words_follow_the_chosen_units(window, qtbot):
+    from gui_support import DEMO_RIDE
+
+    assert window.files.open_path(DEMO_RIDE)
+    press(toolbar_button(window, "clean_up"))
+    proposal = wait_result(qtbot, window)
+    stops = window.clean_up.panel.rows["collapse_stops"].result
+    assert stops.text().startswith("1 stop, 2 min 24 s standing still") and " m of wander removed" in stops.text()
+    window.actions_["imperial"].trigger()
+    assert window.state.preview is proposal  # the same result, described again
+    # 1 ft = 0.3048 m (international foot, 1959)
+    metres = next(o for o in window.clean_up.result.steps if o.tool.key == "collapse_stops").proposal.info[
+        "distance_removed_m"]
+    assert f"({metres / 0.3048:,.0f} ft of wander removed)" in stops.text()
+    window.clean_up.runner.cancel()
+    assert window.clean_up.pool.wait(30)
