@@ -123,6 +123,7 @@ class CleanUpPanel(QtWidgets.QWidget):
         self.status.setWordWrap(True)
         outer.addWidget(self.status)
         self.set_has_result(False)
+        self.set_status("Preview works out the clean up of the whole shown track.")
 
     def set_steps(self, tools: list[ToolDescriptor]) -> None:
         """Offer these steps (in order); a step already offered keeps its switch."""
