@@ -6,7 +6,7 @@ the steps, settings and code of ``trackwright clean``). The combined proposal is
 the window's preview like any tool's (both views highlight what it changes, the
 totals show before → after), and Apply goes through the same
 :meth:`PreviewController.apply_preview`: one undo step, whose cleaning record
-lists every step that changed something. Switching a step off works it out again,
+lists every step it ran. Switching a step off works it out again,
 off the UI thread; only the newest result is shown.
 """
 from __future__ import annotations
@@ -27,11 +27,12 @@ if TYPE_CHECKING:
 
 
 def cleaning_records(result: CleanUpResult) -> tuple[StepRecord, ...]:
-    """What a saved copy's cleaning record says about an applied Clean up: each step that changed
-    something, with the parameters it ran with (``auto (61.3)`` where it estimated a value)."""
+    """What a saved copy's cleaning record says about an applied Clean up: each step that ran, with the
+    parameters it ran with (``auto (61.3)`` where it estimated a value), as ``trackwright clean`` records
+    them (a step that found nothing to do is listed too)."""
     track = result.proposal.track
     return tuple(StepRecord(o.tool.key, o.tool.label, track, params_record(o.params, o.proposal.info))
-                 for o in result.steps if o.changed_anything and o.proposal is not None)
+                 for o in result.steps if o.on and o.proposal is not None)
 
 
 class CleanUpController(QtCore.QObject):

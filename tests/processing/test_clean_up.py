@@ -51,7 +51,9 @@ def same_points(a, b) -> None:
 
 def test_clean_up_equals_the_batch_clean_and_undo_restores_the_ride(tunnel):
     cleaned, report = clean_document(tunnel, inserted_marker=GAP_FILL_MARKER)
+    as_read = tunnel.tracks[0].copy()
     result = clean_up_track(tunnel.tracks[0], 0, inserted_marker=GAP_FILL_MARKER)
+    assert tunnel.tracks[0].equals(as_read)  # the track it was given is left as it was
     proposal = result.proposal
     assert proposal.tool == CLEAN_UP_KEY and proposal.track == 0
     work = tunnel.copy()
