@@ -84,10 +84,6 @@ class StepOutcome:
     proposal: Proposal | None = None
     params: Any = None
 
-    @property
-    def changed_anything(self) -> bool:
-        return self.proposal is not None and not self.proposal.is_noop()
-
 
 @dataclass
 class CleanUpResult:

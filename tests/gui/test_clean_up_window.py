@@ -219,3 +219,14 @@ def test_the_words_follow_the_chosen_units(window, qtbot):
     assert f"({metres / 0.3048:,.0f} ft of wander removed)" in stops.text()
     window.clean_up.runner.cancel()
     assert window.clean_up.pool.wait(30)
+
+
+def test_the_record_of_an_applied_clean_up_equals_the_commands():
+    from editor.app.clean_up import cleaning_records
+    from editor.io.provenance import StepRecord, params_record
+    from editor.processing.clean_up import clean_up_track
+
+    original = read_gpx(TUNNEL)
+    _cleaned, report = clean_document(original, inserted_marker=GAP_FILL_MARKER)
+    command = [StepRecord(s.tool, s.label, s.track, params_record(s.params, s.info)) for s in report.steps]
+    assert list(cleaning_records(clean_up_track(original.tracks[0], 0, inserted_marker=GAP_FILL_MARKER))) == command
