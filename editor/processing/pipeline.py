@@ -2,7 +2,9 @@
 
 Each step is the same tool the editor offers, and its proposal is applied with
 ``proposal.edit().apply(doc)`` on a copy of the document: the code path of the
-editor's "apply", so the batch command and the window cannot disagree.
+editor's "apply", so the batch command and the window cannot disagree. The window's
+Clean up runs the very same per-track functions (:func:`plan_track`,
+:func:`run_track_steps`) through :mod:`editor.processing.clean_up`.
 
 Order of the steps, and why
 ---------------------------
