@@ -94,6 +94,9 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     a["utc"] = _action(w, "Times in &UTC", lambda: w.set_utc_offset(0.0))
     a["offset"] = _action(w, "Times at a fixed &offset from UTC…", lambda: ask_offset(w))
 
+    a["clean_up"] = _action(w, "Clean &up…", w.clean_up.open, "Ctrl+Shift+C", "clean_up",
+                            "Clean up: the recommended steps at once (spikes, gaps, stops, smoothing), "
+                            "previewed before you keep them")
     a["apply"] = _action(w, "&Apply proposal", w.previews.apply_preview, ["Ctrl+Return", "Ctrl+Enter"], "apply")
     a["discard"] = _action(w, "&Discard proposal", w.previews.discard_preview, "Escape", "discard")
     a["estimate"] = _action(w, "&Estimate smoothing strengths", lambda: _estimate(w), "Ctrl+Shift+M")
@@ -128,9 +131,11 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     times.addAction(a["utc"])
     times.addAction(a["offset"])
     m.addSeparator()
-    for dock in (w.tools_dock, w.totals_dock, w.history_dock, w.legend_dock, w.tracks_dock):
+    for dock in (w.tools_dock, w.clean_up.dock, w.totals_dock, w.history_dock, w.legend_dock, w.tracks_dock):
         m.addAction(dock.toggleViewAction())
     m = bar.addMenu("&Tools")
+    m.addAction(a["clean_up"])
+    m.addSeparator()
     for i, panel in enumerate(w.tool_dock.panels):
         act = _action(w, f"{panel.tool.title}…", lambda _c=False, p=panel: _show_tool(w, p), f"Ctrl+{i + 1}")
         m.addAction(act)
@@ -145,9 +150,11 @@ def build_actions(w) -> dict[str, QtGui.QAction]:
     tb = w.addToolBar("Main")
     tb.setObjectName("mainToolbar")
     tb.setIconSize(QtCore.QSize(22, 22))
-    for name in ("open", "save", None, "undo", "redo", None, "delete", "trim_before", "trim_after", "split",
-                 "merge", "insert", None, "box", "move_points", "fit"):
+    for name in ("open", "save", None, "clean_up", None, "undo", "redo", None, "delete", "trim_before", "trim_after",
+                 "split", "merge", "insert", None, "box", "move_points", "fit"):
         tb.addSeparator() if name is None else tb.addAction(a[name])
+    # the one-click clean up says its name beside its icon
+    tb.widgetForAction(a["clean_up"]).setToolButtonStyle(QtCore.Qt.ToolButtonStyle.ToolButtonTextBesideIcon)
     w.files.refresh_recent_menu()
     return a
 

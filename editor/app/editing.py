@@ -30,10 +30,11 @@ class EditController:
         self.session = session
 
     # --- hand edits -------------------------------------------------------------------------------
-    def push_edit(self, edit: Any, label: str, record: StepRecord | None = None) -> bool:
+    def push_edit(self, edit: Any, label: str, record: StepRecord | tuple[StepRecord, ...] | None = None) -> bool:
         """Apply ``edit`` as one undo step named ``label`` (refused while the document is read-only).
 
-        ``record``: what the step is in a saved copy's cleaning record (a hand edit by default).
+        ``record``: what the step is in a saved copy's cleaning record (a hand edit by default; several
+        entries for a step that ran several tools, Clean up).
         """
         if self.session.read_only:
             self.window.statusBar().showMessage(
@@ -49,8 +50,11 @@ class EditController:
     def cleaning_steps(self) -> list[StepRecord]:
         """The steps of the undo stack that are applied now, in order, for a saved copy's record."""
         stack, track = self.window.undo_stack, self.session.state.track
-        return [getattr(stack.command(i), "record", None) or StepRecord("edit", stack.text(i), track)
-                for i in range(stack.index())]
+        steps: list[StepRecord] = []
+        for i in range(stack.index()):
+            record = getattr(stack.command(i), "record", None) or StepRecord("edit", stack.text(i), track)
+            steps.extend(record if isinstance(record, tuple) else (record,))
+        return steps
 
     def _hand_edit(self, build: Callable[[Track], Any], label: str) -> bool:
         track = self.session.track()

@@ -158,8 +158,9 @@ class PreviewController(QtCore.QObject):
         if proposal.is_noop():
             status.showMessage("The proposal changes nothing.", 5000)
             return False
-        record = StepRecord(proposal.tool, proposal.label, proposal.track,
-                            params_record(proposal.params, proposal.info))
+        # a combined proposal (Clean up) brings its own record: one entry per step it ran
+        record = proposal.info.get("cleaning_record") or StepRecord(
+            proposal.tool, proposal.label, proposal.track, params_record(proposal.params, proposal.info))
         if not self.window.editing.push_edit(proposal.edit(), proposal.label, record):
             return False
         # the views redraw in the next event-loop turn and take this instead of projecting again

@@ -10,6 +10,7 @@ from ..panels.controls import tooltip_lines
 from ..panels.elevation_panel import ElevationPanel
 from ..panels.smoothing_panel import SmoothingPanel
 from ..panels.tool_panel import ToolPanel
+from ..processing.clean_up import CLEAN_UP_KEY
 from ..processing.proposal import PlaceNote
 from ..processing.smoothing import estimate_strength
 from ..units import METRIC, UnitSystem
@@ -102,7 +103,8 @@ class ToolDock(QtWidgets.QTabWidget):
         # may have arrived before this redraw and stays applicable.
         preview = self.window_.state.preview
         for panel in self.panels:
-            panel.set_has_preview(preview is not None and panel is self.current_panel(),
+            own = preview is not None and panel is self.current_panel() and preview.tool != CLEAN_UP_KEY
+            panel.set_has_preview(own,
                                   applicable=preview is not None and not preview.is_noop())
 
     def set_status(self, text: str) -> None:
@@ -114,6 +116,8 @@ class ToolDock(QtWidgets.QTabWidget):
         panel = self.current_panel()
         if panel is None:
             return
+        if proposal is not None and proposal.tool == CLEAN_UP_KEY:
+            proposal = None  # the Clean up dock's preview: no tool panel's
         if proposal is None:
             panel.set_has_preview(False)
             panel.set_status("")

@@ -25,6 +25,7 @@ from .display import DisplayController
 from .editing import EditController
 from .files import FileController
 from .background_menu import BackgroundController
+from .clean_up import CleanUpController
 from .panes import ViewPane
 from .previews import PreviewController
 from .recovery_keeper import RecoveryKeeper
@@ -128,6 +129,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.tabifyDockWidget(self.history_dock, self.tracks_dock)
         self.history_dock.raise_()
         self.resizeDocks([self.tools_dock], [440], QtCore.Qt.Orientation.Horizontal)
+        self.clean_up = CleanUpController(self)  # the "Clean up" dock, a tab beside the tools
 
         self.status_points = dialogs.plain_label("")
         self.status_units = dialogs.plain_label("")
@@ -220,6 +222,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.settings.units = units
         self.profile_view.set_units(units)
         self._apply_display_settings()
+        self.clean_up.set_units(units)
 
     def set_utc_offset(self, hours: float) -> None:
         self.utc_offset_h = hours

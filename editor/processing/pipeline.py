@@ -2,7 +2,9 @@
 
 Each step is the same tool the editor offers, and its proposal is applied with
 ``proposal.edit().apply(doc)`` on a copy of the document: the code path of the
-editor's "apply", so the batch command and the window cannot disagree.
+editor's "apply", so the batch command and the window cannot disagree. The window's
+Clean up runs the very same per-track functions (:func:`plan_track`,
+:func:`run_track_steps`) through :mod:`editor.processing.clean_up`.
 
 Order of the steps, and why
 ---------------------------
@@ -52,10 +54,11 @@ from typing import Any, Callable, Mapping
 import numpy as np
 
 from .. import CAUTION
-from ..model.document import Document
+from ..model.document import Document, Track
 from .activity import Activity
 from .cleaning_base import activity_for, planar, replan
 from .descriptor import ToolDescriptor
+from .proposal import Proposal
 from .stats import StatsParams, Totals, track_totals
 from .tools import TOOLS, batch_tools
 
@@ -150,6 +153,53 @@ def _scalars(info: Mapping[str, Any]) -> dict:
             if isinstance(v, (bool, int, float, str, np.integer, np.floating)) and not isinstance(v, np.ndarray)}
 
 
+@dataclass
+class TrackPlan:
+    """What the clean does to one track: the activity it runs with (``""`` for an empty track), the
+    track in metres (``None`` when empty) and the steps in order with their parameters."""
+
+    activity: str
+    plane: Any
+    steps: list[tuple[ToolDescriptor, Any]]
+
+
+def plan_track(track: Track, params: CleanParams, *, terrain: Any = None) -> TrackPlan:
+    """The steps :func:`clean_document` runs on ``track`` with ``params`` (and the optional ``terrain``).
+
+    The window's Clean up plans with this too, so both run the same steps with the same settings.
+    """
+    plane = planar(track) if len(track.points) else None
+    activity = activity_for(plane, params.activity) if plane is not None else None
+    return TrackPlan(activity=activity.name if activity else "", plane=plane,
+                     steps=_steps(params, activity, terrain=terrain) if activity else [])
+
+
+def run_track_steps(doc: Document, index: int, plan: TrackPlan, stats_params: StatsParams = StatsParams(), *,
+                    inserted_marker: Any = None, terrain: Any = None,
+                    step_starts: Callable[[ToolDescriptor], None] | None = None) -> list[Proposal]:
+    """Run ``plan`` on track ``index`` of ``doc``, applying each step's proposal to ``doc`` in turn
+    (``proposal.edit().apply``: the window's Apply). Returns every step's proposal in order, no-ops too;
+    each is relative to the track the step before it left. ``step_starts(tool)`` is called before each step.
+    """
+    plane, before = plan.plane, None
+    proposals = []
+    for number, (tool, step_params) in enumerate(plan.steps):
+        if step_starts is not None:
+            step_starts(tool)
+        track = doc.tracks[index]
+        # the shared plane and the known totals; no posterior standard deviations (the batch keeps none)
+        optional = tool.optional_inputs(plane=plane, before=before, want_std=False,
+                                        inserted_marker=inserted_marker, terrain=terrain)
+        proposal = tool.function(track, step_params, track_index=index, stats_params=stats_params, **optional)
+        if not proposal.is_noop():
+            proposal.edit().apply(doc)
+            if plane is not None and number + 1 < len(plan.steps):
+                plane = replan(plane, doc.tracks[index], proposal.source_rows, proposal.changed)
+        before = proposal.after
+        proposals.append(proposal)
+    return proposals
+
+
 def clean_document(doc: Document, params: CleanParams | None = None,
                    progress: Callable[[float, str], None] | None = None, *,
                    inserted_marker: Any = None, terrain: Any = None) -> tuple[Document, CleanReport]:
@@ -166,37 +216,25 @@ def clean_document(doc: Document, params: CleanParams | None = None,
     params = params if params is not None else CleanParams()
     out = doc.copy()
     report = CleanReport(before=Totals(), after=Totals())
-    plans, planes = [], []
-    for index, track in enumerate(out.tracks):
-        plane = planar(track) if len(track.points) else None
-        activity = activity_for(plane, params.activity) if plane is not None else None
-        report.activities.append(activity.name if activity else "")
-        plans.append(_steps(params, activity, terrain=terrain) if activity else [])
-        planes.append(plane)
-    total = max(1, sum(len(p) for p in plans))
+    plans = [plan_track(track, params, terrain=terrain) for track in out.tracks]
+    report.activities.extend(plan.activity for plan in plans)
+    total = max(1, sum(len(plan.steps) for plan in plans))
     done = 0
-    for index, steps in enumerate(plans):
-        plane, before = planes[index], None
-        for number, (tool, step_params) in enumerate(steps):
+    for index, plan in enumerate(plans):
+        def step_starts(tool: ToolDescriptor, index: int = index) -> None:
+            nonlocal done
             if progress is not None:
                 progress(done / total, f"track {index + 1}: {tool.label.lower()}")
-            track = out.tracks[index]
-            # the shared plane and the known totals; no posterior standard deviations (the batch keeps none)
-            optional = tool.optional_inputs(plane=plane, before=before, want_std=False,
-                                            inserted_marker=inserted_marker, terrain=terrain)
-            proposal = tool.function(track, step_params, track_index=index, stats_params=params.stats_params,
-                                     **optional)
-            if not proposal.is_noop():
-                proposal.edit().apply(out)
-                if plane is not None and number + 1 < len(steps):
-                    plane = replan(plane, out.tracks[index], proposal.source_rows, proposal.changed)
-            before = proposal.after
+            done += 1
+
+        proposals = run_track_steps(out, index, plan, params.stats_params, inserted_marker=inserted_marker,
+                                    terrain=terrain, step_starts=step_starts)
+        for (_tool, step_params), proposal in zip(plan.steps, proposals):
             report.steps.append(StepReport(
                 tool=proposal.tool, label=proposal.label, track=index, removed=len(proposal.removed),
                 inserted=len(proposal.inserted), changed=int(proposal.changed.sum()), before=proposal.before,
                 after=proposal.after, info=_scalars(proposal.info), notes=tuple(proposal.info.get("notes", ())),
                 params=step_params))
-            done += 1
     # every step's proposal already carries the totals before and after it: reuse them per track
     for index, track in enumerate(out.tracks):
         done_steps = [s for s in report.steps if s.track == index]
@@ -222,4 +260,5 @@ def summary_line(report: CleanReport) -> str:
             f"ascent {b.ascent_m:.0f} -> {a.ascent_m:.0f} m, points {b.points} -> {a.points}")
 
 
-__all__ = ["CleanParams", "CleanReport", "StepReport", "clean_document", "summary_line"]
+__all__ = ["CleanParams", "CleanReport", "StepReport", "TrackPlan", "clean_document", "plan_track", "run_track_steps",
+           "summary_line"]
