@@ -112,7 +112,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.history.setEmptyLabel("File as opened")
         self.tool_dock = ToolDock(self)
 
-        self.tools_dock = self._dock("Clean-up tools", "toolsDock", self.tool_dock)
+        self.tools_dock = self._dock("Tool by tool", "toolsDock", self.tool_dock)
         # whatever sizes a saved layout brings, the everyday settings and the buttons stay usable
         self.tools_dock.setMinimumHeight(MINIMUM_TOOLS_HEIGHT)
         # scrolls rather than squeezing its rows together on a short screen
