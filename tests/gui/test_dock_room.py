@@ -44,3 +44,19 @@ def test_opening_more_settings_moves_nothing_sideways(window, qtbot):
     qtbot.waitUntil(bar.isVisible, timeout=2000)
     qtbot.wait(20)
     assert place() == before and panel.width() == width_before
+
+
+def test_at_1280_by_720_every_tool_keeps_preview_apply_discard_in_view(window, qtbot):
+    window.resize(1280, 720)
+    qtbot.wait(50)
+    assert window.height() <= 720  # nothing in the docks forces a taller window
+    inside = window.rect()
+    for panel in window.tool_dock.panels:
+        window.tool_dock.show_panel(panel)
+        qtbot.mouseClick(panel.more_button, QtCore.Qt.MouseButton.LeftButton)  # everything open: it scrolls
+        qtbot.wait(20)
+        for button in (panel.preview_button, panel.apply_button, panel.discard_button):
+            corner = button.mapTo(window, QtCore.QPoint(0, 0))
+            assert button.isVisible(), (panel.tool.key, button.text())
+            assert inside.contains(QtCore.QRect(corner, button.size())), (panel.tool.key, button.text())
+        assert window.tools_dock.height() >= MINIMUM_TOOLS_HEIGHT
