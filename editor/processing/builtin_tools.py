@@ -62,12 +62,12 @@ SMOOTH = ToolDescriptor(
             label="Position strength", **STRENGTH,
             tip="How much the line on the map is smoothed, from 0 (as recorded) to 100 (the smoothest). "
             "Leave “auto” ticked to let the track decide; lower it if corners are cut, raise it if the "
-            "line still zigzags. A scale without a unit."),
+            "line still zigzags. Unit: none, a 0–100 scale."),
         "vertical_strength": ControlSpec(
             label="Elevation strength", **STRENGTH,
             tip="How much the heights are smoothed, from 0 (as recorded) to 100 (the smoothest). Leave "
             "“auto” ticked to let the track decide; lower it if short climbs flatten out, raise it if the "
-            "ascent still counts noise. A scale without a unit."),
+            "ascent still counts noise. Unit: none, a 0–100 scale."),
         "horizontal_sigma_m": ControlSpec(
             label="Position scatter", more=True, **SCATTER_RANGE,
             tip=POSITION_SCATTER + " The smoother trusts each point less the larger this is. Used as set "
