@@ -44,6 +44,19 @@ class AppliedHint:
         return (self.revision, self.track) == (session.revision, session.state.track)
 
 
+def _projected(cache: dict, key: tuple, lat: np.ndarray, lon: np.ndarray,
+               project: Callable[[np.ndarray, np.ndarray], tuple]) -> tuple:
+    """``project(lat, lon)``, or the last preview's map coordinates when its positions were the
+    same (an elevation-only change leaves every position as it was)."""
+    last = cache.get(("xy", key))
+    if last is not None and np.array_equal(last[0], lat, equal_nan=True) and np.array_equal(last[1], lon,
+                                                                                           equal_nan=True):
+        return last[2]
+    xy = project(lat, lon)
+    cache[("xy", key)] = (lat, lon, xy)
+    return xy
+
+
 class PreviewController(QtCore.QObject):
     """Previews, apply, discard and long jobs of one window."""
 
@@ -77,7 +90,7 @@ class PreviewController(QtCore.QObject):
         strengths = self._cached_strengths(params, rows, cache)
         # only the profile draws an uncertainty band; "before" and "plane" are filled in by the worker
         kwargs_wanted = tool.optional_inputs(before=None, plane=None, want_std="vertical",
-                                             inserted_marker=GAP_FILL_MARKER)
+                                             inserted_marker=GAP_FILL_MARKER, memo=None)
         function = tool.function
 
         def work():
@@ -90,16 +103,23 @@ class PreviewController(QtCore.QObject):
                 if cache.get("plane") is None:
                     cache["plane"] = planar(snapshot)
                 kwargs["plane"] = cache["plane"]
+            if "memo" in kwargs:  # what the tool may reuse between previews of this track state
+                kwargs["memo"] = cache.setdefault(("memo", tool.key), {})
             proposal = function(snapshot, strengths(snapshot, params), rows=rows, track_index=track_index,
                                 **kwargs)
             proposal.params = params  # as the user set them ("auto" stays auto) for the cleaning record
             # Project the proposal for the map here, off the UI thread (pyproj objects stay
             # in the thread that made them).
-            xy = LocalProjection(lat0, lon0).to_xy(proposal.points.lat, proposal.points.lon)
+            xy = _projected(cache, (tool.key, lat0, lon0), proposal.points.lat, proposal.points.lon,
+                            lambda lat, lon: LocalProjection(lat0, lon0).to_xy(lat, lon))
             proposal.edit()  # the undo step's "what changed" is worked out here, not when applying
             return proposal, xy
 
-        self.runner.request(work, immediately=immediately)
+        if state.preview is None:
+            self.runner.forget_shown()
+        key = (tool.key, params, None if rows is None else rows.tobytes(), session.revision, track_index,
+               lat0, lon0)
+        self.runner.request(work, immediately=immediately, key=key)
 
     @staticmethod
     def _cached_strengths(params: Any, rows: np.ndarray | None, cache: dict) -> Callable[[Any, Any], Any]:

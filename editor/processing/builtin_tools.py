@@ -93,7 +93,7 @@ SMOOTH = ToolDescriptor(
         "smooth_elevation": ControlSpec(label="Smooth elevation"),
     },
     batch_order=40,
-    accepts=PLANE_AND_TOTALS | {"want_std"},
+    accepts=PLANE_AND_TOTALS | {"want_std", "memo"},
     cli_switch=False,
     cli_options=(
         CliOption(

@@ -226,6 +226,37 @@ def take_with_breaks(values: np.ndarray, rows: np.ndarray) -> np.ndarray:
     return out
 
 
+def band_outline(x: np.ndarray, upper: np.ndarray, lower: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Outline of the area between ``upper`` and ``lower`` over ``x``, as one polygon per run of
+    finite values: the run along ``upper`` and back along ``lower``, runs separated by NaN.
+
+    Drawn as one path (``connect="finite"`` starts a new polygon after each NaN); built with
+    array operations, where pyqtgraph's fill-between item walks the curves' paths in Python.
+    """
+    x, upper, lower = (np.asarray(a, dtype=np.float64) for a in (x, upper, lower))
+    ok = np.isfinite(x) & np.isfinite(upper) & np.isfinite(lower)
+    rows = np.flatnonzero(ok)
+    if len(rows) < 2:
+        return np.zeros(0), np.zeros(0)
+    starts = np.concatenate(([0], np.flatnonzero(np.diff(rows) > 1) + 1))
+    stops = np.append(starts[1:], len(rows))
+    runs = len(starts)
+    lengths = stops - starts
+    # each run r takes 2 * lengths[r] vertices and one NaN after it
+    size = 2 * lengths + 1
+    offset = np.concatenate(([0], np.cumsum(size)[:-1]))
+    total = int(size.sum())
+    out_x = np.full(total, np.nan)
+    out_y = np.full(total, np.nan)
+    run_of = np.repeat(np.arange(runs), lengths)
+    k = np.arange(len(rows)) - starts[run_of]          # position inside the run
+    forward = offset[run_of] + k
+    backward = offset[run_of] + 2 * lengths[run_of] - 1 - k
+    out_x[forward], out_y[forward] = x[rows], upper[rows]
+    out_x[backward], out_y[backward] = x[rows], lower[rows]
+    return out_x, out_y
+
+
 @dataclass
 class ChangeHighlight:
     """Which rows a preview draws as changed, so a proposal shows only what it changes.
