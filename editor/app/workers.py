@@ -19,7 +19,7 @@ from PySide6 import QtCore
 #: How long a control change waits before its preview starts, milliseconds. The wait is counted
 #: from the first change and not restarted by later ones (a throttle, not a debounce): a slider
 #: dragged without pause still shows a new picture whenever the worker is free.
-DEBOUNCE_MS = 15
+DEBOUNCE_MS = 5
 
 
 class _Relay(QtCore.QObject):
