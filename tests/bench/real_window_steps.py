@@ -345,7 +345,9 @@ def measure_point_drag(window: MainWindow, watch: Watch, runs: int) -> tuple[lis
     m = window.map_view
     window.set_move_mode(True)
     fps, commit = [], []
-    for k in range(runs):
+    for k in range(runs + 3):
+        if len(fps) == runs:
+            break
         row = len(m.geometry) // 3 + 50 * k
         x, y = m.geometry.x_m[row], m.geometry.y_m[row]
         m.view_box.setRange(QtCore.QRectF(x - 80, y - 80, 160, 160), padding=0)
@@ -357,7 +359,7 @@ def measure_point_drag(window: MainWindow, watch: Watch, runs: int) -> tuple[lis
         moves = []
         for _ in range(60):
             moves += ["mousemove_relative", "--", "1", "1", "sleep", "0.01"]
-        before = len(watch.paint_ms["map"])
+        steps_before = window.undo_stack.index()
         proc = xdotool("mousemove", "--sync", str(g.x()), str(g.y()), "sleep", "0.3", "mousedown", "1",
                        *moves, "mouseup", "1")
         stamps: list[float] = []
@@ -367,12 +369,15 @@ def measure_point_drag(window: MainWindow, watch: Watch, runs: int) -> tuple[lis
         while proc.poll() is None:
             idle(0.02)
         watch.listeners.remove(listener)
+        if window.undo_stack.index() == steps_before:  # the press did not grab the point: not a drag
+            print(f"    (run {k + 1}: the press did not grab the point; not counted)", flush=True)
+            idle(0.5)
+            continue
         end = run_loop_until(watch, lambda: watch.both_painted_after(released.released))
         during = [t for t in stamps if released.pressed < t <= released.released and released.pressed > t_start]
         span = released.released - released.pressed
         fps.append(len(during) / span if span > 0 else float("nan"))
         commit.append((end - released.released) * 1000)
-        del before
         window.undo_stack.undo()
         idle(0.3)
     window.set_move_mode(False)
