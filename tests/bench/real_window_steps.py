@@ -363,7 +363,9 @@ def measure_point_drag(window: MainWindow, watch: Watch, runs: int) -> tuple[lis
         proc = xdotool("mousemove", "--sync", str(g.x()), str(g.y()), "sleep", "0.3", "mousedown", "1",
                        *moves, "mouseup", "1")
         stamps: list[float] = []
-        listener = (lambda: stamps.append(watch.painted["map"]))
+        def listener() -> None:
+            stamps.append(watch.painted["map"])
+
         watch.listeners.append(listener)
         t_start = time.perf_counter()
         while proc.poll() is None:

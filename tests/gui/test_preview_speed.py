@@ -11,7 +11,6 @@ import threading
 
 import numpy as np
 import shapely
-from PySide6 import QtCore
 
 from editor.app.workers import PreviewRunner, WorkerPool
 from editor.views.geometry import band_outline
