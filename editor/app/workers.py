@@ -52,6 +52,7 @@ class WorkerPool:
     """
 
     def __init__(self, threads: int = 1) -> None:
+        self.threads = threads
         self._executor = ThreadPoolExecutor(max_workers=threads, thread_name_prefix="trackwright-worker")
         self._pending: list[Future] = []
 
@@ -92,7 +93,8 @@ class PreviewRunner(QtCore.QObject):
     replaces the waiting one, which starts as soon as the busy run ends. So a slider dragged
     faster than the tool can follow computes the newest value next, never a queue of old ones,
     and the picture keeps following it. A request with ``immediately`` (the Preview button, a
-    released slider) also drops the busy run's result, which is older than what was asked for.
+    released slider) drops the busy run's result, which is older than what was asked for, and
+    starts at once when the pool has a second thread.
     Requests carry a ``key`` (what they compute); one equal to the run in the worker, or to the
     result shown, computes nothing again.
 
@@ -132,6 +134,12 @@ class PreviewRunner(QtCore.QObject):
             self._drop_running = False
             return
         self._pending, self._pending_key = work, key
+        if self.busy and immediately and self.pool.threads > 1:
+            # A released slider: start the value it settled on now, on the second thread, instead of
+            # after the older run (whose result the generation check then drops).
+            self._timer.stop()
+            self._launch()
+            return
         if self.busy:
             self._drop_running = self._drop_running or immediately
             return

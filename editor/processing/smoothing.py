@@ -431,18 +431,18 @@ def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, tr
         results[axis] = problem.smooth(q, want_std=with_std)
         if memo is not None:  # only the last result per axis group: a drag must not pile them up
             memo[("result", axis)] = (key, results[axis])
-            memo.pop(("latlon", axis), None)
 
     if "horizontal" in results:
         res = results["horizontal"]
         x_hat, y_hat = res.position[at, 0], res.position[at, 1]
+        # keyed by the result they come from: two previews may share the memo at the same time
         kept = None if memo is None else memo.get(("latlon", "horizontal"))
-        if kept is not None:
-            lat, lon = kept
+        if kept is not None and kept[0] is res:
+            lat, lon = kept[1], kept[2]
         else:
             lat, lon = arrays.projection.to_latlon(x_hat, y_hat)
             if memo is not None:
-                memo[("latlon", "horizontal")] = (lat, lon)
+                memo[("latlon", "horizontal")] = (res, lat, lon)
         # rows the smoother left exactly in place keep their original coordinates bit for bit
         same = (x_hat == arrays.x[at]) & (y_hat == arrays.y[at])
         points.lat[write] = np.where(same, points.lat[write], lat)

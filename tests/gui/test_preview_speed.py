@@ -134,3 +134,21 @@ def test_the_band_outline_encloses_the_area_between_its_edges():
         # shapely's polygon area against the trapezoid rule of the band's width over the run
         assert polygon.is_valid
         assert np.isclose(polygon.area, np.trapezoid(upper[run] - lower[run], x[run]), rtol=1e-12)
+
+
+def test_with_two_threads_a_released_value_does_not_wait_for_the_older_run(qtbot):
+    pool = WorkerPool(2)
+    runner = PreviewRunner(pool)
+    gate = threading.Event()
+    shown = []
+    runner.result_ready.connect(shown.append)
+    runner.request(lambda: gate.wait(10) and "old", key="old")
+    qtbot.waitUntil(lambda: runner.busy, timeout=2000)
+    runner.request(lambda: "released", immediately=True, key="released")
+    qtbot.waitUntil(lambda: shown == ["released"], timeout=5000)   # while the old run still waits
+    assert not gate.is_set()
+    gate.set()
+    assert pool.wait(10)
+    settle(qtbot, 60)
+    assert shown == ["released"]                                   # the older result never shows
+    pool.shutdown()
