@@ -71,6 +71,7 @@ class DisplayController(QtCore.QObject):
         self._show_context()
         self.rebuild_views(fit=True)
         self.update_totals()
+        self._totals_timer.stop()  # rebuild_views asked for them in the next turn: done already
         window.undo_stack.setClean()
         window.recovery.document_opened(session.source_path)
         self.update_title()

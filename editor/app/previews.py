@@ -21,6 +21,7 @@ from ..processing.descriptor import ToolDescriptor
 from ..processing import smoothing
 from ..processing.smoothing import SmoothParams
 from ..processing.stats import track_totals
+from .auto_strength import start_prefetch, strength_key, wait_for_prefetch
 from .session import Session
 from .workers import LongJob, PreviewRunner, WorkerPool
 
@@ -44,6 +45,19 @@ class AppliedHint:
         return (self.revision, self.track) == (session.revision, session.state.track)
 
 
+def _projected(cache: dict, key: tuple, lat: np.ndarray, lon: np.ndarray,
+               project: Callable[[np.ndarray, np.ndarray], tuple]) -> tuple:
+    """``project(lat, lon)``, or the last preview's map coordinates when its positions were the
+    same (an elevation-only change leaves every position as it was)."""
+    last = cache.get(("xy", key))
+    if last is not None and np.array_equal(last[0], lat, equal_nan=True) and np.array_equal(last[1], lon,
+                                                                                           equal_nan=True):
+        return last[2]
+    xy = project(lat, lon)
+    cache[("xy", key)] = (lat, lon, xy)
+    return xy
+
+
 class PreviewController(QtCore.QObject):
     """Previews, apply, discard and long jobs of one window."""
 
@@ -59,6 +73,7 @@ class PreviewController(QtCore.QObject):
         self.runner.started.connect(lambda: window.tool_dock.set_status("Computing the proposal…"))
         self.long_job: LongJob | None = None
         self.applied_hint: AppliedHint | None = None
+        self._prefetch_inputs: tuple | None = None
 
     # --- tool previews ----------------------------------------------------------------------------
     def request_preview(self, tool: ToolDescriptor, params: Any, selection_only: bool,
@@ -77,7 +92,7 @@ class PreviewController(QtCore.QObject):
         strengths = self._cached_strengths(params, rows, cache)
         # only the profile draws an uncertainty band; "before" and "plane" are filled in by the worker
         kwargs_wanted = tool.optional_inputs(before=None, plane=None, want_std="vertical",
-                                             inserted_marker=GAP_FILL_MARKER)
+                                             inserted_marker=GAP_FILL_MARKER, memo=None)
         function = tool.function
 
         def work():
@@ -90,16 +105,24 @@ class PreviewController(QtCore.QObject):
                 if cache.get("plane") is None:
                     cache["plane"] = planar(snapshot)
                 kwargs["plane"] = cache["plane"]
+            if "memo" in kwargs:  # what the tool may reuse between previews of this track state
+                kwargs["memo"] = cache.setdefault(("memo", tool.key), {})
             proposal = function(snapshot, strengths(snapshot, params), rows=rows, track_index=track_index,
                                 **kwargs)
             proposal.params = params  # as the user set them ("auto" stays auto) for the cleaning record
             # Project the proposal for the map here, off the UI thread (pyproj objects stay
             # in the thread that made them).
-            xy = LocalProjection(lat0, lon0).to_xy(proposal.points.lat, proposal.points.lon)
+            xy = _projected(cache, (tool.key, lat0, lon0), proposal.points.lat, proposal.points.lon,
+                            lambda lat, lon: LocalProjection(lat0, lon0).to_xy(lat, lon))
             proposal.edit()  # the undo step's "what changed" is worked out here, not when applying
             return proposal, xy
 
-        self.runner.request(work, immediately=immediately)
+        self._prefetch_inputs = (snapshot, rows, cache, (session.revision, track_index))
+        if state.preview is None:
+            self.runner.forget_shown()
+        key = (tool.key, params, None if rows is None else rows.tobytes(), session.revision, track_index,
+               lat0, lon0)
+        self.runner.request(work, immediately=immediately, key=key)
 
     @staticmethod
     def _cached_strengths(params: Any, rows: np.ndarray | None, cache: dict) -> Callable[[Any, Any], Any]:
@@ -112,13 +135,15 @@ class PreviewController(QtCore.QObject):
         """
         if not isinstance(params, SmoothParams) or params.estimate_noise:
             return lambda _snapshot, p: p
-        base = (None if rows is None else rows.tobytes(),
-                params.horizontal_sigma_m, params.vertical_sigma_m)
+        base = strength_key(params, rows)
         wanted = {axis: getattr(params, f"{axis}_strength") is None and getattr(params, f"smooth_{flag}")
                   for axis, flag in (("horizontal", "horizontal"), ("vertical", "elevation"))}
 
         def fill(snapshot, p):
             missing = [axis for axis, auto in wanted.items() if auto and (base, axis) not in cache]
+            if missing:  # being estimated ahead (auto_strength.py)? then that result, not a second search
+                wait_for_prefetch(cache, base)
+                missing = [axis for axis, auto in wanted.items() if auto and (base, axis) not in cache]
             if missing:
                 # Estimate only the axes not known yet; the others get a placeholder fixed strength.
                 ask = replace(p, **{f"{axis}_strength": (None if axis in missing else 50.0) for axis in wanted})
@@ -139,6 +164,16 @@ class PreviewController(QtCore.QObject):
             return
         self.window.map_view.prepare_proposal_xy(proposal, xy)
         self.session.state.set_preview(proposal)
+        self._prefetch_automatic(proposal)
+
+    def _prefetch_automatic(self, proposal) -> None:
+        """While a hand-set smoothing preview is shown, estimate what "auto" would need (auto_strength.py)."""
+        if self.runner.busy or self._prefetch_inputs is None or (self.long_job is not None and self.long_job.running):
+            return
+        snapshot, rows, cache, state_key = self._prefetch_inputs
+        session = self.session
+        start_prefetch(self.long_pool, snapshot, rows, proposal.params, cache,
+                       lambda: (session.revision, session.state.track) == state_key)
 
     def _preview_failed(self, message: str) -> None:
         first = message.splitlines()[0]

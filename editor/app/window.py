@@ -74,8 +74,9 @@ class MainWindow(QtWidgets.QMainWindow):
         super().__init__(parent)
         self.settings = settings
         self.palette_ = palette or Palette.load()
-        # One thread for previews (a newer request replaces queued ones), one for long jobs.
-        self.pool = pool or WorkerPool(1)
+        # Two threads for previews (a newer request replaces queued ones; a released slider's value
+        # starts while an older run finishes), one for long jobs.
+        self.pool = pool or WorkerPool(2)
         self.long_pool = WorkerPool(1)
         self.session = Session()
         self.state = self.session.state  # the views' shared state: one object for the window's life

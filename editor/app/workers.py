@@ -1,6 +1,6 @@
 """Background work: tool previews and long estimates off the UI thread.
 
-A control change restarts a short debounce timer; when it fires, the tool runs
+A control change starts a short timer (not restarted by later changes); when it fires, the tool runs
 on a worker thread on an immutable snapshot of the track (taken once per
 document revision; it shares the columns, which edits never write in place).
 Every request gets a generation number and a result whose generation is no
@@ -16,8 +16,10 @@ from typing import Any, Callable
 from PySide6 import QtCore
 
 
-#: Debounce interval for control changes, milliseconds.
-DEBOUNCE_MS = 150
+#: How long a control change waits before its preview starts, milliseconds. The wait is counted
+#: from the first change and not restarted by later ones (a throttle, not a debounce): a slider
+#: dragged without pause still shows a new picture whenever the worker is free.
+DEBOUNCE_MS = 5
 
 
 class _Relay(QtCore.QObject):
@@ -50,6 +52,7 @@ class WorkerPool:
     """
 
     def __init__(self, threads: int = 1) -> None:
+        self.threads = threads
         self._executor = ThreadPoolExecutor(max_workers=threads, thread_name_prefix="trackwright-worker")
         self._pending: list[Future] = []
 
@@ -73,8 +76,27 @@ class WorkerPool:
         self._executor.shutdown(wait=False, cancel_futures=True)
 
 
+def _same(a: Any, b: Any) -> bool:
+    """Whether two request keys are equal (``False`` when they cannot be compared)."""
+    if a is None or b is None:
+        return False
+    try:
+        return bool(a == b)
+    except Exception:  # e.g. a parameter holding an array: treat as a new request
+        return False
+
+
 class PreviewRunner(QtCore.QObject):
-    """Debounced, generation-checked tool runs for previews.
+    """Coalescing, generation-checked tool runs for previews.
+
+    At most one run is in the worker and at most one waits: a request made while a run is busy
+    replaces the waiting one, which starts as soon as the busy run ends. So a slider dragged
+    faster than the tool can follow computes the newest value next, never a queue of old ones,
+    and the picture keeps following it. A request with ``immediately`` (the Preview button, a
+    released slider) drops the busy run's result, which is older than what was asked for, and
+    starts at once when the pool has a second thread.
+    Requests carry a ``key`` (what they compute); one equal to the run in the worker, or to the
+    result shown, computes nothing again.
 
     Signals
     -------
@@ -92,6 +114,10 @@ class PreviewRunner(QtCore.QObject):
         self.pool = pool
         self.generation = 0
         self._pending: Callable[[], Any] | None = None
+        self._pending_key: Any = None
+        self._running_key: Any = None
+        self._shown_key: Any = None
+        self._drop_running = False
         # No Qt parent: the relay lives as long as a job still refers to it, even past the window.
         self._relay = _Relay()
         self._relay.finished.connect(self._finished)
@@ -99,20 +125,39 @@ class PreviewRunner(QtCore.QObject):
         self._timer.timeout.connect(self._launch)
         self.busy = False
 
-    def request(self, work: Callable[[], Any], immediately: bool = False) -> None:
-        """Run ``work()`` (which must only read its own snapshot) after the debounce interval."""
-        self._pending = work
-        self.generation += 1  # results of anything still running are now stale
+    def request(self, work: Callable[[], Any], immediately: bool = False, key: Any = None) -> None:
+        """Run ``work()`` (which must only read its own snapshot) soon; see the class notes."""
+        if key is not None and _same(key, self._running_key if self.busy else self._shown_key):
+            # already being computed (or shown): forget any other value asked for meanwhile
+            self._pending, self._pending_key = None, None
+            self._timer.stop()
+            self._drop_running = False
+            return
+        self._pending, self._pending_key = work, key
+        if self.busy and immediately and self.pool.threads > 1:
+            # A released slider: start the value it settled on now, on the second thread, instead of
+            # after the older run (whose result the generation check then drops).
+            self._timer.stop()
+            self._launch()
+            return
+        if self.busy:
+            self._drop_running = self._drop_running or immediately
+            return
         if immediately:
             self._timer.stop()
             self._launch()
-        else:
+        elif not self._timer.isActive():
             self._timer.start()
+
+    def forget_shown(self) -> None:
+        """The shown result is gone (discarded elsewhere): a request for it computes it again."""
+        self._shown_key = None
 
     def cancel(self) -> None:
         """Forget the pending request and any running one."""
         self._timer.stop()
-        self._pending = None
+        self._pending = self._pending_key = self._running_key = self._shown_key = None
+        self._drop_running = False
         self.generation += 1
         self.busy = False
 
@@ -120,8 +165,10 @@ class PreviewRunner(QtCore.QObject):
         if self._pending is None:
             return
         work, self._pending = self._pending, None
+        self._running_key, self._pending_key = self._pending_key, None
         self.generation += 1
         self.busy = True
+        self._drop_running = False
         self.started.emit()
         self.pool.drop_queued()
         self.pool.submit(_run_job, self.generation, work, self._relay)
@@ -130,9 +177,17 @@ class PreviewRunner(QtCore.QObject):
         if generation != self.generation:
             return
         self.busy = False
+        drop, self._drop_running = self._drop_running, False
+        key, self._running_key = self._running_key, None
+        # the worker starts on the newest request before this result is drawn
+        self._launch()
+        if drop and self.busy:
+            return
         if error is not None:
+            self._shown_key = None
             self.failed.emit(error)
         else:
+            self._shown_key = key
             self.result_ready.emit(result)
 
 

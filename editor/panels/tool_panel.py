@@ -71,6 +71,9 @@ class ToolPanel(QtWidgets.QWidget):
             more = specs.get(control.name)
             (more_form if more is not None and more.more else self.form).addRow(label, control)
             control.changed.connect(lambda: self.preview_requested.emit(False))
+            if control.slider is not None:
+                # released: the value the user settled on is wanted now, not an older one still running
+                control.slider.sliderReleased.connect(lambda: self.preview_requested.emit(True))
         if more_form.rowCount():
             self.form.addRow(self.more_button)
             self.form.addRow(self.more_box)

@@ -89,7 +89,7 @@ SMOOTH = ToolDescriptor(
             "terrain."),
     },
     batch_order=40,
-    accepts=PLANE_AND_TOTALS | {"want_std"},
+    accepts=PLANE_AND_TOTALS | {"want_std", "memo"},
     cli_switch=False,
     cli_options=(
         CliOption(

@@ -22,7 +22,7 @@ from typing import Any, Callable, Mapping
 #: (False, True, or ``"vertical"`` for the elevation band only), ``inserted_marker`` the opaque
 #: payload to give points the tool inserts (made by :mod:`editor.model.payload`; ``None``: unmarked),
 #: ``terrain`` the user's elevation rasters (an :class:`editor.terrain.Terrain`, or ``None``).
-OPTIONAL_INPUTS = frozenset({"plane", "before", "want_std", "inserted_marker", "terrain"})
+OPTIONAL_INPUTS = frozenset({"plane", "before", "want_std", "inserted_marker", "terrain", "memo"})
 
 
 @dataclass(frozen=True)

@@ -241,23 +241,37 @@ def _track_arrays(track: Track, rows, plane=None) -> _TrackArrays:
                         by_distance=by_distance, timed=timed, projection=projection)
 
 
-def _problems(arrays: _TrackArrays, params: SmoothParams, rows=None):
-    """Horizontal and vertical likelihood problems (None where not requested or no data)."""
+def _problems(arrays: _TrackArrays, params: SmoothParams, rows=None, memo: dict | None = None):
+    """Horizontal and vertical likelihood problems (None where not requested or no data).
+
+    ``memo``: a dict kept for one ``arrays`` (see :func:`smooth`); a problem is built once per
+    axis and noise setting and reused from there.
+    """
     keep = None
     if rows is not None:
         keep = np.isin(arrays.rows, np.asarray(rows, dtype=np.int64))
     out = {}
-    for axis, enabled, z, factor, sigma in (
+    for axis, enabled, sigma in (
             ("horizontal", params.smooth_horizontal and not keeps_recording(params.horizontal_strength),
-             np.column_stack([arrays.x, arrays.y]), arrays.r_h, params.horizontal_sigma_m),
+             params.horizontal_sigma_m),
             ("vertical", params.smooth_elevation and not keeps_recording(params.vertical_strength),
-             arrays.ele[:, None], arrays.r_v, params.vertical_sigma_m)):
-        if keep is not None:
-            z = np.where(keep[:, None], z, np.nan)
-        if not enabled or not np.isfinite(z).any():
+             params.vertical_sigma_m)):
+        if not enabled:
             out[axis] = None
             continue
-        out[axis] = Problem(arrays.t, z, sigma ** 2 * factor, starts=arrays.starts)
+        key = ("problem", axis, sigma, None if rows is None else keep.tobytes())
+        if memo is not None and key in memo:
+            out[axis] = memo[key]
+            continue
+        if axis == "horizontal":
+            z, factor = np.column_stack([arrays.x, arrays.y]), arrays.r_h
+        else:
+            z, factor = arrays.ele[:, None], arrays.r_v
+        if keep is not None:
+            z = np.where(keep[:, None], z, np.nan)
+        out[axis] = Problem(arrays.t, z, sigma ** 2 * factor, starts=arrays.starts) if np.isfinite(z).any() else None
+        if memo is not None:
+            memo[key] = out[axis]
     return out
 
 
@@ -356,7 +370,7 @@ def estimate_strength(track: Track, rows=None, *, params: SmoothParams = SmoothP
 
 def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, track_index: int = 0,
            stats_params: StatsParams = StatsParams(), plane=None, before=None,
-           want_std: bool | str = True) -> Proposal:
+           want_std: bool | str = True, memo: dict | None = None) -> Proposal:
     """Propose the smoothed track.
 
     ``rows``: sorted row indices of the user's selection; only they change, while whole
@@ -370,11 +384,25 @@ def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, tr
 
     ``plane``: the track already projected (:func:`editor.processing.cleaning_base.planar`, any
     projection), used instead of projecting it again; ``before``: the track's totals, if known.
+
+    ``memo``: a dict the caller keeps for one state of ``track`` (and one ``plane``) and passes to
+    every call on it, e.g. while a slider is moved. The prepared arrays and problems are kept
+    there, and the last smoothed result of each axis group with its settings, so a change of the
+    elevation strength alone does not smooth positions again (nor the other way round). The
+    proposal is the same with or without it: the same functions run on the same inputs.
     """
     n = len(track.points)
     chosen = None if rows is None else np.unique(np.asarray(rows, dtype=np.int64))
-    arrays = _track_arrays(track, chosen, plane)
-    problems = _problems(arrays, params)
+    selection = None if chosen is None else chosen.tobytes()
+    if memo is not None:
+        if "arrays" not in memo or memo["arrays_for"] != selection:
+            memo.clear()  # everything in it was made for other rows
+            memo["arrays_for"] = selection
+            memo["arrays"] = _track_arrays(track, chosen, plane)
+        arrays = memo["arrays"]
+    else:
+        arrays = _track_arrays(track, chosen, plane)
+    problems = _problems(arrays, params, memo=memo)
     automatic = any(problems[axis] is not None and strength is None for axis, strength in (
         ("horizontal", params.horizontal_strength), ("vertical", params.vertical_strength)))
     if automatic or params.estimate_noise:
@@ -393,14 +421,29 @@ def smooth(track: Track, params: SmoothParams = SmoothParams(), *, rows=None, tr
         if problem is None:
             continue
         sigma = params.horizontal_sigma_m if axis == "horizontal" else params.vertical_sigma_m
+        with_std = want_std is True or want_std == axis
+        key = (sigma, q, r, with_std)
+        kept = None if memo is None else memo.get(("result", axis))
+        if kept is not None and kept[0] == key:
+            results[axis] = kept[1]
+            continue
         if r != sigma ** 2:  # estimated noise: rebuild with the scaled variances
             problem = Problem(problem.t, problem.z, problem.r * (r / sigma ** 2), starts=arrays.starts)
-        results[axis] = problem.smooth(q, want_std=want_std is True or want_std == axis)
+        results[axis] = problem.smooth(q, want_std=with_std)
+        if memo is not None:  # only the last result per axis group: a drag must not pile them up
+            memo[("result", axis)] = (key, results[axis])
 
     if "horizontal" in results:
         res = results["horizontal"]
         x_hat, y_hat = res.position[at, 0], res.position[at, 1]
-        lat, lon = arrays.projection.to_latlon(x_hat, y_hat)
+        # keyed by the result they come from: two previews may share the memo at the same time
+        kept = None if memo is None else memo.get(("latlon", "horizontal"))
+        if kept is not None and kept[0] is res:
+            lat, lon = kept[1], kept[2]
+        else:
+            lat, lon = arrays.projection.to_latlon(x_hat, y_hat)
+            if memo is not None:
+                memo[("latlon", "horizontal")] = (res, lat, lon)
         # rows the smoother left exactly in place keep their original coordinates bit for bit
         same = (x_hat == arrays.x[at]) & (y_hat == arrays.y[at])
         points.lat[write] = np.where(same, points.lat[write], lat)

@@ -59,6 +59,7 @@ class LinkedPlot(pg.PlotWidget):
         self.palette = palette
         self.geometry = TrackGeometry.empty()
         self._xy = (np.zeros(0), np.zeros(0))
+        self._xy_version = 0  # grows whenever _xy is replaced (keys of the drawn lines)
         self._proposal_xy: tuple[np.ndarray, np.ndarray] | None = None
         self._selected_mask = np.zeros(0, dtype=bool)
         self._breaks = np.zeros(0, dtype=bool)
@@ -119,6 +120,7 @@ class LinkedPlot(pg.PlotWidget):
         """Show a (new or edited) track; ``fit`` zooms to it."""
         self.geometry = geometry
         self._xy = self.track_xy(geometry)
+        self._xy_version += 1
         self._breaks = geometry.breaks_after()
         self._selected_mask = np.zeros(len(geometry), dtype=bool)
         sel = self.state.selection
@@ -135,6 +137,7 @@ class LinkedPlot(pg.PlotWidget):
     def refresh_coordinates(self) -> None:
         """Recompute the view coordinates (after a unit or axis change)."""
         self._xy = self.track_xy(self.geometry)
+        self._xy_version += 1
         if self.state.preview is not None:
             self._proposal_xy = self.proposal_xy(self.state.preview)
         self.fit_all()
@@ -178,14 +181,26 @@ class LinkedPlot(pg.PlotWidget):
         for axis in ("left", "bottom"):
             self.plotItem.getAxis(axis).setCacheMode(QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache)
 
-    def _lod_line(self, item: pg.PlotCurveItem, x: np.ndarray, y: np.ndarray, breaks=None) -> None:
+    def _lod_line(self, item: pg.PlotCurveItem, x: np.ndarray, y: np.ndarray, breaks=None,
+                  key: tuple | None = None) -> None:
+        """Draw the line through ``x, y`` with as many vertices as the screen can show.
+
+        ``key``: what the arrays were made from; when it equals the key of what ``item`` already
+        shows (the unchanged track during a preview, the same view), nothing is recomputed.
+        """
         rect, pixel = self._visible()
+        if key is not None:
+            key = (*key, rect, pixel)
+            if getattr(item, "lod_key", None) == key:
+                return
+        item.lod_key = key
         rows = lod_indices(x, y, rect, pixel, breaks, columns=self.lod_columns)
-        dense = len(rows) > DENSE_VERTICES
+        # at more than about a vertex per pixel column, antialiasing adds little and costs a lot
+        dense = len(rows) > DENSE_VERTICES or (self.lod_columns and len(rows) > 1.5 * self.view_box.width())
         pen = QtGui.QPen(item.opts["pen"])
         base_width = item.base_width if hasattr(item, "base_width") else pen.widthF()
         item.base_width = base_width
-        if item is self.track_item and dense:
+        if (item is self.track_item and dense) or item is self.faded_item:
             pen.setWidthF(1.0)           # the hairline path is fast even antialiased
             item.opts["antialias"] = True
         else:
@@ -234,13 +249,17 @@ class LinkedPlot(pg.PlotWidget):
         proposal = self._shown_proposal()
         highlight = self._highlight if proposal is not None else None
         if highlight is not None and len(highlight.original) == len(x):
-            # Unchanged stretches as the track; changed ones faded under the proposal.
+            # Unchanged stretches as the track; changed ones faded under the proposal. Both stay
+            # as drawn while the next proposal changes the same rows (a slider being moved).
+            changed = (self._xy_version, hash(highlight.original.tobytes()))
             self._lod_line(self.track_item, np.where(highlight.original & ~edge_rows(highlight.original), np.nan, x),
-                           y, self._breaks)
-            self._lod_line(self.faded_item, np.where(highlight.original, x, np.nan), y, self._breaks)
+                           y, self._breaks, key=("unchanged", *changed))
+            self._lod_line(self.faded_item, np.where(highlight.original, x, np.nan), y, self._breaks,
+                           key=("changed", *changed))
         else:
-            self._lod_line(self.track_item, x, y, self._breaks)
+            self._lod_line(self.track_item, x, y, self._breaks, key=("all", self._xy_version))
             self.faded_item.setData([], [])
+            self.faded_item.lod_key = None
         if self._selected_mask.any():
             self._lod_line(self.selection_item, np.where(self._selected_mask, x, np.nan), y, self._breaks)
             chosen = np.flatnonzero(self._selected_mask)

@@ -150,9 +150,9 @@ def lod_indices(x: np.ndarray, y: np.ndarray, rect: tuple[float, float, float, f
     Points off screen are kept when a neighbour is on screen so the line
     reaches the edge. Consecutive points are grouped (by length along the path on screen, by
     pixel column when ``columns`` is set, or in equal runs when there are more
-    than ``budget`` groups); each group keeps its first point, its last point
-    where the line ends, and (for columns and runs) its extremes in x and y, so
-    spikes stay visible at every zoom.
+    than ``budget`` groups); each group keeps its first point (a pixel column: only where the
+    line starts), its last point where the line ends, and its extremes (a pixel column: in y;
+    runs: in x and y), so spikes stay visible at every zoom.
     """
     n = len(x)
     if n == 0:
@@ -185,23 +185,26 @@ def lod_indices(x: np.ndarray, y: np.ndarray, rect: tuple[float, float, float, f
             new_group = cell[1:] != cell[:-1]
     new_group |= jump
     # Within one path step the extremes are all within a pixel or two: the first point suffices.
-    extremes = columns
+    # In a pixel column only the lowest and the highest point show (x changes by under a pixel):
+    # the line runs from one to the other, at most two vertices a column.
+    extremes: tuple = (yr,) if columns else ()
     if np.count_nonzero(new_group) > budget:
         step = int(np.ceil(len(rows) / budget))
         new_group = jump.copy()
         new_group[step - 1::step] = True
-        extremes = True
+        extremes, columns = (xr, yr), False
     starts = np.concatenate(([0], np.flatnonzero(new_group) + 1))
     stops = np.append(starts[1:], len(rows))
     group = np.repeat(np.arange(len(starts)), stops - starts)
     chosen = np.zeros(len(rows), dtype=bool)
-    chosen[starts] = True
+    begins_line = np.concatenate(([True], jump))
+    chosen[starts[begins_line[starts]] if columns else starts] = True
     # A group's last point matters only where the line stops after it; elsewhere the next
     # group's first point is at most a pixel away.
     ends_line = np.append(jump, True)
     chosen[(stops - 1)[ends_line[stops - 1]]] = True
     with np.errstate(invalid="ignore"):
-        for values in (xr, yr) if extremes else ():
+        for values in extremes:
             filled = np.where(np.isfinite(values), values, np.nan)
             lo = np.fmin.reduceat(filled, starts)
             hi = np.fmax.reduceat(filled, starts)
@@ -224,6 +227,37 @@ def take_with_breaks(values: np.ndarray, rows: np.ndarray) -> np.ndarray:
     out = np.array(out, dtype=np.float64)
     out[rows == BREAK] = np.nan
     return out
+
+
+def band_outline(x: np.ndarray, upper: np.ndarray, lower: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Outline of the area between ``upper`` and ``lower`` over ``x``, as one polygon per run of
+    finite values: the run along ``upper`` and back along ``lower``, runs separated by NaN.
+
+    Drawn as one path (``connect="finite"`` starts a new polygon after each NaN); built with
+    array operations, where pyqtgraph's fill-between item walks the curves' paths in Python.
+    """
+    x, upper, lower = (np.asarray(a, dtype=np.float64) for a in (x, upper, lower))
+    ok = np.isfinite(x) & np.isfinite(upper) & np.isfinite(lower)
+    rows = np.flatnonzero(ok)
+    if len(rows) < 2:
+        return np.zeros(0), np.zeros(0)
+    starts = np.concatenate(([0], np.flatnonzero(np.diff(rows) > 1) + 1))
+    stops = np.append(starts[1:], len(rows))
+    runs = len(starts)
+    lengths = stops - starts
+    # each run r takes 2 * lengths[r] vertices and one NaN after it
+    size = 2 * lengths + 1
+    offset = np.concatenate(([0], np.cumsum(size)[:-1]))
+    total = int(size.sum())
+    out_x = np.full(total, np.nan)
+    out_y = np.full(total, np.nan)
+    run_of = np.repeat(np.arange(runs), lengths)
+    k = np.arange(len(rows)) - starts[run_of]          # position inside the run
+    forward = offset[run_of] + k
+    backward = offset[run_of] + 2 * lengths[run_of] - 1 - k
+    out_x[forward], out_y[forward] = x[rows], upper[rows]
+    out_x[backward], out_y[backward] = x[rows], lower[rows]
+    return out_x, out_y
 
 
 @dataclass

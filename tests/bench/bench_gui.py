@@ -4,7 +4,10 @@ Targets (issue: editor window), on a 100,000-point track:
   open to first full paint <= 2 s; preview after a smoothing change <= 300 ms (10,000 points: <= 60 ms);
   a point drag redraws both views at >= 30 frames per second; resident memory <= 400 MB;
   the UI thread is never blocked for more than 50 ms by a preview.
-Run: ``QT_QPA_PLATFORM=offscreen python tests/bench/bench_gui.py``.
+Run: ``QT_QPA_PLATFORM=offscreen python tests/bench/bench_gui.py`` (offscreen, for CI), or
+``python tests/bench/bench_gui.py --real``: a real X window through the xcb platform (under
+``xvfb-run`` when there is no display), driven by ``xdotool``; see ``real_window.py`` for the steps
+and targets of issue 13. It ends with one ``summary:`` line of medians.
 """
 from __future__ import annotations
 
@@ -14,6 +17,12 @@ import tempfile
 import time
 from pathlib import Path
 
+if __name__ == "__main__" and "--real" in sys.argv:
+    sys.path.insert(0, str(Path(__file__).resolve().parent))
+    import real_window
+
+    _code = real_window.relaunch_under_xvfb([__file__, *sys.argv[1:]])
+    sys.exit(real_window.main() if _code is None else _code)
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))

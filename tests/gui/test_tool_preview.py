@@ -128,12 +128,20 @@ def test_strength_estimate_runs_with_progress_and_fills_the_controls(demo, qtbot
 
 
 def test_automatic_strength_is_estimated_once_per_track_state(demo, qtbot, monkeypatch):
+    """Each axis' automatic strength is estimated once per track state: the elevation's for the
+    preview, the position's ahead of time (while the user tunes it by hand) for "auto"."""
     import editor.processing.smoothing as smoothing
     from editor.model import DeletePoints
 
     calls = []
     real = smoothing.estimate_strength
-    monkeypatch.setattr(smoothing, "estimate_strength", lambda *a, **k: calls.append(1) or real(*a, **k))
+
+    def counted(*args, **kwargs):
+        params = kwargs["params"]
+        calls.extend(axis for axis in ("horizontal", "vertical") if getattr(params, f"{axis}_strength") is None)
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(smoothing, "estimate_strength", counted)
     window = demo
     panel = window.tool_dock.panel("smooth")
     window.tool_dock.show_panel(panel)
@@ -144,10 +152,17 @@ def test_automatic_strength_is_estimated_once_per_track_state(demo, qtbot, monke
         panel.preview_button.click()
         previous = _wait_preview(qtbot, window, previous)
         assert previous.info["horizontal_strength"] == pytest.approx(strength)
-    assert len(calls) == 1
+    assert window.long_pool.wait(30)
+    assert sorted(calls) == ["horizontal", "vertical"]
+    # "auto" ticked for the position too: both known, no search
+    panel.controls["horizontal_strength"].set_value(None)
+    panel.preview_button.click()
+    previous = _wait_preview(qtbot, window, previous)
+    assert sorted(calls) == ["horizontal", "vertical"]
     # An edit changes the track: the next preview estimates again.
     window.editing.push_edit(DeletePoints(0, np.array([10])), "Delete 1 point")
     qtbot.wait(30)
     panel.preview_button.click()
     _wait_preview(qtbot, window, None)
-    assert len(calls) == 2
+    assert window.long_pool.wait(30)
+    assert sorted(calls) == ["horizontal", "horizontal", "vertical", "vertical"]
