@@ -21,6 +21,7 @@ from ..processing.descriptor import ToolDescriptor
 from ..processing import smoothing
 from ..processing.smoothing import SmoothParams
 from ..processing.stats import track_totals
+from ..processing.simplify import rank_by_area_ahead
 from .auto_strength import start_prefetch, strength_key, wait_for_prefetch
 from .session import Session
 from .workers import LongJob, PreviewRunner, WorkerPool
@@ -56,6 +57,10 @@ def _projected(cache: dict, key: tuple, lat: np.ndarray, lon: np.ndarray,
     xy = project(lat, lon)
     cache[("xy", key)] = (lat, lon, xy)
     return xy
+
+
+#: Longest track whose bend-size ranking is prepared ahead (about 2 s of background work).
+RANK_AHEAD_MAX_POINTS = 300_000
 
 
 class PreviewController(QtCore.QObject):
@@ -167,13 +172,26 @@ class PreviewController(QtCore.QObject):
         self._prefetch_automatic(proposal)
 
     def _prefetch_automatic(self, proposal) -> None:
-        """While a hand-set smoothing preview is shown, estimate what "auto" would need (auto_strength.py)."""
+        """While a preview is shown the window is idle: prepare what the next settings will need. For a
+        hand-set smoothing preview, what "auto" needs (auto_strength.py); for Simplify, the bend-size ranking."""
         if self.runner.busy or self._prefetch_inputs is None or (self.long_job is not None and self.long_job.running):
             return
         snapshot, rows, cache, state_key = self._prefetch_inputs
         session = self.session
-        start_prefetch(self.long_pool, snapshot, rows, proposal.params, cache,
-                       lambda: (session.revision, session.state.track) == state_key)
+
+        def still_current() -> bool:
+            return (session.revision, session.state.track) == state_key
+
+        if proposal.tool == "simplify":
+            # With Simplify open, rank by bend size ahead: each bend-size setting then only reads it.
+            # Not on very long tracks: it would hold the long-job thread for seconds.
+            if ("ranked", "simplify") in cache or len(snapshot.points) > RANK_AHEAD_MAX_POINTS:
+                return
+            cache[("ranked", "simplify")] = self.long_pool.submit(
+                lambda: rank_by_area_ahead(snapshot, rows, cache.setdefault(("memo", "simplify"), {}),
+                                           still_current))
+            return
+        start_prefetch(self.long_pool, snapshot, rows, proposal.params, cache, still_current)
 
     def _preview_failed(self, message: str) -> None:
         first = message.splitlines()[0]

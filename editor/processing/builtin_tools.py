@@ -281,6 +281,7 @@ SIMPLIFY = ToolDescriptor(
     method="Ramer–Douglas–Peucker (distance) or Visvalingam–Whyatt (bend size)",
     function=simplify,
     params=SimplifyParams,
+    accepts=frozenset({"memo"}),  # the window resumes the bend-size ranking between settings
     fields={
         "method": ControlSpec(
             label="Thin by", choices=(("rdp", "distance from the line"), ("vw", "size of each bend")),

@@ -29,16 +29,16 @@ tolerance.
 
 Visvalingam-Whyatt
 ------------------
-Visvalingam & Whyatt (1993). Repeatedly drop the point whose triangle with its
-two neighbours has the smallest area; a point's effective area is never less
-than the area of the point dropped before it. A binary heap with lazy deletion
-makes it O(n log n). Stops at an area threshold (points with effective area
-below it go) or at a target point count.
+Visvalingam & Whyatt (1993), in :mod:`editor.processing.vw_ranking`: repeatedly
+drop the point whose triangle with its two neighbours has the smallest area.
+Stops at an area threshold (points with effective area below it go) or at a
+target point count. Given a ``memo`` (the window's previews keep one per track
+state) the elimination is resumed between settings instead of started again.
 """
 from __future__ import annotations
 
-import heapq
 from dataclasses import dataclass
+from typing import Callable
 
 import numpy as np
 
@@ -46,6 +46,7 @@ from ..model.document import Track
 from .cleaning_base import keep_proposal, planar, selection_mask
 from .proposal import Proposal
 from .stats import StatsParams
+from .vw_ranking import VWRanking, always_kept, vw_effective_areas
 
 
 @dataclass(frozen=True)
@@ -89,13 +90,6 @@ def _segment_distance(px, py, ax, ay, bx, by) -> np.ndarray:
     return np.where((r <= 0) | (len2 == 0), to_a, np.where(r >= 1, to_b, interior))
 
 
-def _always_kept(n: int, anchors) -> np.ndarray:
-    keep = np.zeros(n, dtype=bool) if anchors is None else np.array(anchors, dtype=bool)
-    if n:
-        keep[[0, -1]] = True
-    return keep
-
-
 def rdp_keep(x: np.ndarray, y: np.ndarray, tolerance_m: float, anchors: np.ndarray | None = None,
              ele: np.ndarray | None = None, vertical_tolerance_m: float | None = None) -> np.ndarray:
     """Boolean mask of the points Ramer-Douglas-Peucker keeps, computed a whole level at a time.
@@ -109,7 +103,7 @@ def rdp_keep(x: np.ndarray, y: np.ndarray, tolerance_m: float, anchors: np.ndarr
     """
     x = np.asarray(x, dtype=np.float64)
     y = np.asarray(y, dtype=np.float64)
-    keep = _always_kept(len(x), anchors)
+    keep = always_kept(len(x), anchors)
     anchor_rows = np.flatnonzero(keep)
     lo, hi = anchor_rows[:-1], anchor_rows[1:]
     count = hi - lo - 1
@@ -195,7 +189,7 @@ def rdp_keep_geos(x: np.ndarray, y: np.ndarray, tolerance_m: float, anchors: np.
     import shapely  # here, not at the top: the batch command must not pay for it when it does not simplify
 
     n = len(x)
-    keep = _always_kept(n, anchors)
+    keep = always_kept(n, anchors)
     anchor_rows = np.flatnonzero(keep)
     lo, hi = anchor_rows[:-1], anchor_rows[1:]
     busy = hi - lo > 1
@@ -212,92 +206,6 @@ def rdp_keep_geos(x: np.ndarray, y: np.ndarray, tolerance_m: float, anchors: np.
     kept = shapely.get_coordinates(simple, include_z=True)[:, 2]
     keep[kept.astype(np.int64)] = True
     return keep
-
-
-def vw_effective_areas(x: np.ndarray, y: np.ndarray, anchors: np.ndarray | None = None,
-                       stop_area: float | None = None, stop_count: int | None = None) -> np.ndarray:
-    """Visvalingam-Whyatt effective area (square metres) of each point; ``inf`` for points kept.
-
-    Points are eliminated smallest area first; a point's effective area is the
-    largest area eliminated so far, so it never falls below its predecessor's.
-    Elimination stops before the first effective area reaching ``stop_area`` or
-    once only ``stop_count`` points remain.
-
-    Areas are ranked as integers of 2^-21 m^2 (about 5e-7 m^2) with the row number
-    in the low bits: Python compares plain integers twice as fast as tuples, and the
-    heap loop is the one per-point loop of the method. Effective areas are reported
-    to that resolution.
-    """
-    n = len(x)
-    fixed = _always_kept(n, anchors)
-    xs, ys = np.asarray(x, dtype=np.float64), np.asarray(y, dtype=np.float64)
-    interior = np.flatnonzero(~fixed)
-    eff_out = np.full(n, np.inf)
-    if not len(interior):
-        return eff_out
-    scale = 2.0 ** 20  # per unit of doubled area, i.e. 2^-21 m^2 of area
-    i0, i2 = interior - 1, interior + 1
-    doubled = np.abs((xs[interior] - xs[i0]) * (ys[i2] - ys[i0]) - (xs[i2] - xs[i0]) * (ys[interior] - ys[i0]))
-    shift = int(n).bit_length()
-    if doubled.max() * scale >= 2.0 ** (62 - shift):
-        scale = 2.0 ** (61 - shift) / doubled.max()  # astronomically large areas: coarser units
-    keys = ((doubled * scale).astype(np.int64) << shift) | interior
-    current = np.full(n, -1, dtype=np.int64)
-    current[interior] = keys
-    heap = keys.tolist()
-    heapq.heapify(heap)
-    cur = current.tolist()
-    pts = list(zip(xs.tolist(), ys.tolist()))
-    fix = fixed.tolist()
-    prv = list(range(-1, n - 1))
-    nxt = list(range(1, n + 1))
-    eff = [-1] * n
-    limit = 1 << 63 if stop_area is None else int(np.ceil(2.0 * stop_area * scale))
-    budget = len(interior) if stop_count is None else min(len(interior), max(0, n - int(stop_count)))
-    mask = (1 << shift) - 1
-    floor = 0
-    heappop, heapreplace, heappush = heapq.heappop, heapq.heapreplace, heapq.heappush
-    while budget:
-        k = heap[0]
-        i = k & mask
-        c = cur[i]
-        if k != c:
-            if k < c:
-                heapreplace(heap, c)  # the point's area grew since: requeue it at its current key
-            else:
-                heappop(heap)  # left over from a point whose area shrank, or that is gone
-            continue
-        heappop(heap)
-        a = k >> shift
-        if a > floor:
-            if a >= limit:
-                break
-            floor = a
-        eff[i] = floor
-        cur[i] = -1
-        budget -= 1
-        p = prv[i]
-        q = nxt[i]
-        nxt[p] = q
-        prv[q] = p
-        xp, yp = pts[p]
-        xq, yq = pts[q]
-        if not fix[p]:
-            xu, yu = pts[prv[p]]
-            kp = (int(abs((xp - xu) * (yq - yu) - (xq - xu) * (yp - yu)) * scale) << shift) | p
-            if kp < cur[p]:
-                heappush(heap, kp)  # a smaller area must be queued now; a larger one waits (see above)
-            cur[p] = kp
-        if not fix[q]:
-            xw, yw = pts[nxt[q]]
-            kq = (int(abs((xq - xp) * (yw - yp) - (xw - xp) * (yq - yp)) * scale) << shift) | q
-            if kq < cur[q]:
-                heappush(heap, kq)
-            cur[q] = kq
-    eff_int = np.array(eff, dtype=np.int64)
-    eliminated = eff_int >= 0
-    eff_out[eliminated] = eff_int[eliminated] / (2.0 * scale)
-    return eff_out
 
 
 def _deviation(x, y, keep) -> float:
@@ -326,29 +234,30 @@ def _vertical_deviation(along, ele, keep) -> float:
 
 
 def simplify(track: Track, params: SimplifyParams = SimplifyParams(), *, rows=None, track_index: int = 0,
-             stats_params: StatsParams = StatsParams()) -> Proposal:
+             stats_params: StatsParams = StatsParams(), memo: dict | None = None) -> Proposal:
     """Propose dropping points that the line does not need (see module notes).
 
     ``rows`` (sorted row indices) limits removal to the selection. ``info`` reports
     ``kept`` (points), ``max_deviation_m`` (horizontal distance of the farthest dropped
     point from the new line), ``max_vertical_deviation_m`` and ``ascent_change_m``
-    (ascent after minus before, metres).
+    (ascent after minus before, metres). ``memo``: a dict the caller keeps for one state of
+    ``track``; Visvalingam-Whyatt resumes its elimination there (same result, less work).
     """
     if params.method not in ("rdp", "vw"):
         raise ValueError(f"method must be 'rdp' or 'vw', not {params.method!r}")
     pt = planar(track)
     n = len(pt)
-    anchors = ~selection_mask(n, rows)
-    ends = np.array([r for a, b in pt.bounds if b > a for r in (a, b - 1)], dtype=np.int64)
-    anchors[ends] = True
+    anchors = _anchors(pt, rows)
     if params.method == "rdp" and params.vertical_tolerance_m is None:
         keep = rdp_keep_geos(pt.x, pt.y, params.tolerance_m, anchors)
     elif params.method == "rdp":
         keep = rdp_keep(pt.x, pt.y, params.tolerance_m, anchors, pt.ele, params.vertical_tolerance_m)
     else:
-        eff = vw_effective_areas(pt.x, pt.y, anchors, stop_area=None if params.target_points else params.area_m2,
-                                 stop_count=params.target_points)
-        keep = np.isinf(eff)
+        ranking = _ranking(pt, anchors, memo)
+        dropped = (ranking.dropped_to_count(params.target_points) if params.target_points
+                   else ranking.dropped_below(params.area_m2))
+        keep = np.ones(n, dtype=bool)
+        keep[dropped] = False
     along = np.concatenate(([0.0], np.cumsum(np.hypot(np.diff(pt.x), np.diff(pt.y))))) if n else np.zeros(0)
     info = {"method": params.method, "kept": int(keep.sum()), "removed": int(n - keep.sum()),
             "max_deviation_m": _deviation(pt.x, pt.y, keep) if n else 0.0,
@@ -360,4 +269,33 @@ def simplify(track: Track, params: SimplifyParams = SimplifyParams(), *, rows=No
     return proposal
 
 
-__all__ = ["SimplifyParams", "simplify", "rdp_keep", "rdp_keep_geos", "vw_effective_areas"]
+def _anchors(pt, rows) -> np.ndarray:
+    """Points simplification never drops: outside the selection, and each segment's ends."""
+    anchors = ~selection_mask(len(pt), rows)
+    ends = np.array([r for a, b in pt.bounds if b > a for r in (a, b - 1)], dtype=np.int64)
+    anchors[ends] = True
+    return anchors
+
+
+def rank_by_area_ahead(track: Track, rows, memo: dict, carry_on: Callable[[], bool] = lambda: True) -> None:
+    """Carry out the whole Visvalingam-Whyatt elimination of ``track`` into ``memo`` (the one
+    :func:`simplify` reads), in chunks while ``carry_on()`` holds: the window does this in the
+    background while Simplify is open, so each bend-size setting then only reads the ranking."""
+    pt = planar(track)
+    if len(pt) > 2:
+        _ranking(pt, _anchors(pt, rows), memo).rank_all(carry_on)
+
+
+def _ranking(pt, anchors: np.ndarray, memo: dict | None) -> VWRanking:
+    """The elimination for these anchors: the memo's, carried on, when it was made for them."""
+    if memo is None:
+        return VWRanking(pt.x, pt.y, anchors)
+    key = anchors.tobytes()
+    kept = memo.get("vw")  # one entry, so a second thread never sees half of it
+    if kept is None or kept[0] != key:
+        kept = (key, VWRanking(pt.x, pt.y, anchors))
+        memo["vw"] = kept
+    return kept[1]
+
+
+__all__ = ["SimplifyParams", "simplify", "rank_by_area_ahead", "rdp_keep", "rdp_keep_geos", "vw_effective_areas"]

@@ -38,6 +38,7 @@ from editor.processing.simplify import (SimplifyParams, rdp_keep, rdp_keep_geos,
                                         vw_effective_areas)
 from editor.processing.spikes import SpikeParams, despike, gate, gate_outliers, speed_outliers  # noqa: E402
 from editor.processing.stops import StopParams, collapse_stops, find_stops  # noqa: E402
+from editor.processing.vw_ranking import VWRanking  # noqa: E402
 
 
 def best_of(fn, repeats=5):
@@ -99,6 +100,18 @@ def bench_simplify(track):
         print(f"  area {area:5.0f} m^2: kept {np.isinf(eff).sum():6d}   {t_vw * 1e3:7.1f} ms")
     t_all, _ = best_of(lambda: vw_effective_areas(x, y), repeats=2)
     print(f"  full ranking (every point eliminated): {t_all * 1e3:7.1f} ms")
+    # The window keeps one ranking per track state and resumes it (editor.processing.vw_ranking):
+    # the time a rider waits for each area while tuning it, after the first one.
+    ranking = VWRanking(x, y)
+    previous = None
+    for area in (50.0, 100.0, 200.0, 150.0, 10.0, 1000.0, 400.0):
+        start = time.perf_counter()
+        dropped = ranking.dropped_below(area)
+        took = time.perf_counter() - start
+        came_from = "first setting" if previous is None else f"after {previous:g} m^2"
+        print(f"  tuning, area {area:5.0f} m^2 ({came_from}): kept {len(x) - len(dropped):6d}   {took * 1e3:7.1f} ms"
+              f"   ratio {took / 0.3:4.2f}")
+        previous = area
     big = 1_000_000
     t1, x1, y1 = wandering_path(big, 6.0, seed=5)
     rng = np.random.default_rng(5)

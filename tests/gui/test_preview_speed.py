@@ -152,3 +152,22 @@ def test_with_two_threads_a_released_value_does_not_wait_for_the_older_run(qtbot
     settle(qtbot, 60)
     assert shown == ["released"]                                   # the older result never shows
     pool.shutdown()
+
+
+def test_simplify_ranks_by_bend_size_ahead_and_every_bend_size_equals_a_fresh_run(window, qtbot):
+    window.display.set_document(synthetic_ride(6000, seed=5))
+    panel = window.tool_dock.panel("simplify")
+    window.tool_dock.show_panel(panel)
+    _preview(window, qtbot, panel, method="rdp", tolerance_m=5.0)  # Simplify open: ranking starts behind it
+    cache = window.session.preview_cache()
+    ahead = cache[("ranked", "simplify")]
+    qtbot.waitUntil(ahead.done, timeout=20000)
+    _key, ranking = cache[("memo", "simplify")]["vw"]
+    assert ranking.finished
+    track = window.session.track()
+    for area in (50.0, 400.0, 10.0):
+        shown = _preview(window, qtbot, panel, method="vw", area_m2=area)
+        fresh = panel.tool.function(track, shown.params)  # the tool alone, no memo
+        assert np.array_equal(shown.removed, fresh.removed) and shown.after == fresh.after
+        assert len(shown.removed)
+    assert cache[("memo", "simplify")]["vw"][1] is ranking  # read, never made again
