@@ -24,7 +24,7 @@ from typing import Callable
 import numpy as np
 
 
-def always_kept(n: int, anchors) -> np.ndarray:
+def always_kept(n: int, anchors: np.ndarray | None) -> np.ndarray:
     """The points no elimination may drop: ``anchors`` and the two ends."""
     keep = np.zeros(n, dtype=bool) if anchors is None else np.array(anchors, dtype=bool)
     if n:
@@ -132,7 +132,8 @@ class VWRanking:
         if len(order) == self.interior_count:
             self.finished = True
             # the order and the areas are all that is read from now on (a few hundred MB at 1M points)
-            self._heap = self._cur = self._pts = self._fix = self._prv = self._nxt = []
+            self._heap, self._cur, self._prv, self._nxt = [], [], [], []
+            self._pts, self._fix = [], []
 
     def rank_all(self, carry_on: Callable[[], bool] = lambda: True, chunk: int = 20000) -> None:
         """Finish the elimination a ``chunk`` of points at a time while ``carry_on()`` holds; other
