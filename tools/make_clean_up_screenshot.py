@@ -10,11 +10,11 @@ from __future__ import annotations
 import os
 import sys
 import tempfile
-import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(Path(__file__).resolve().parent))  # make_screenshot beside this
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
 #: A small laptop's screen: the layout must work there.
@@ -22,14 +22,7 @@ SIZE = (1280, 720)
 #: The views show this many recorded points either side of the tunnel's removed points.
 ROWS_AROUND = 260
 
-
-def _wait(app, condition, seconds: float = 60.0) -> bool:
-    from PySide6 import QtCore
-
-    deadline = time.monotonic() + seconds
-    while not condition() and time.monotonic() < deadline:
-        app.processEvents(QtCore.QEventLoop.ProcessEventsFlag.AllEvents, 20)
-    return condition()
+from make_screenshot import wait_until  # noqa: E402 (needs the path above)
 
 
 def main(argv: list[str]) -> int:
@@ -51,11 +44,11 @@ def main(argv: list[str]) -> int:
     if not window.files.open_path(ride, confirmed=True):
         print(f"cannot open {ride}", file=sys.stderr)
         return 2
-    _wait(app, lambda: False, 0.3)
+    wait_until(app, lambda: False, 0.3)
     toolbar = window.findChild(QtCore.QObject, "mainToolbar")
     button = toolbar.widgetForAction(window.actions_["clean_up"])
     QTest.mouseClick(button, QtCore.Qt.MouseButton.LeftButton, pos=button.rect().center())
-    if not _wait(app, lambda: window.clean_up.result is not None):
+    if not wait_until(app, lambda: window.clean_up.result is not None):
         print("the clean up did not arrive", file=sys.stderr)
         return 1
     proposal = window.state.preview
@@ -65,7 +58,7 @@ def main(argv: list[str]) -> int:
     rows = np.arange(max(0, middle - ROWS_AROUND), min(len(window.display.geometry), middle + ROWS_AROUND))
     for view in window.views:
         view.fit_rows(rows)
-    _wait(app, lambda: False, 0.5)
+    wait_until(app, lambda: False, 0.5)
     out.parent.mkdir(parents=True, exist_ok=True)
     window.grab().save(str(out))
     window.previews.discard_preview()

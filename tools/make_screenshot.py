@@ -29,7 +29,8 @@ FOCUS_FRACTION = 0.42
 MAP_HALF_WIDTH_M = 900.0
 
 
-def _wait(app, condition, seconds: float = 60.0) -> bool:
+def wait_until(app, condition, seconds: float = 60.0) -> bool:
+    """Run the event loop until ``condition()`` holds or ``seconds`` pass; whether it holds."""
     from PySide6 import QtCore
 
     deadline = time.monotonic() + seconds
@@ -58,7 +59,7 @@ def terrain_shot(out: Path) -> int:
     panel = window.tool_dock.panel("elevation")
     window.tool_dock.show_panel(panel)
     panel.set_terrain_paths([ROOT / "demo_tracks" / "demo_hike.terrain.tif"])
-    if not _wait(app, lambda: window.state.preview is not None):
+    if not wait_until(app, lambda: window.state.preview is not None):
         print("the preview did not arrive", file=sys.stderr)
         return 1
     geometry = window.display.geometry
@@ -69,10 +70,10 @@ def terrain_shot(out: Path) -> int:
                                       padding=0)
     relief = window.map_view.background  # the terrain's shaded relief, shown once terrain is chosen
     app.processEvents()
-    if not _wait(app, lambda: relief.shown is not None and not relief._timer.isActive()):
+    if not wait_until(app, lambda: relief.shown is not None and not relief._timer.isActive()):
         print("the relief did not arrive", file=sys.stderr)
         return 1
-    _wait(app, lambda: False, 1.5)  # the relief of the final view range
+    wait_until(app, lambda: False, 1.5)  # the relief of the final view range
     out.parent.mkdir(parents=True, exist_ok=True)
     window.grab().save(str(out))
     window.previews.discard_preview()
