@@ -15,7 +15,7 @@ from ..processing.proposal import PlaceNote
 from ..processing.smoothing import estimate_strength
 from ..units import METRIC, UnitSystem
 from ..processing.tools import TOOLS
-from .scrolling import SteadyScrollArea
+from ..panels.scrolling import SteadyScrollArea
 
 #: The panel class for each descriptor's ``panel`` kind.
 PANEL_KINDS: dict[str, type[ToolPanel]] = {"standard": ToolPanel, "strength": SmoothingPanel,

@@ -29,7 +29,7 @@ from .clean_up import CleanUpController
 from .panes import ViewPane
 from .previews import PreviewController
 from .recovery_keeper import RecoveryKeeper
-from .scrolling import scrolled
+from ..panels.scrolling import scrolled
 from .session import Session
 from .settings import AppSettings
 from .tool_dock import ToolDock

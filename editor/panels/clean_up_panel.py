@@ -14,6 +14,7 @@ from ..processing.clean_up import CleanUpResult
 from ..processing.descriptor import ToolDescriptor
 from ..processing.step_words import describe
 from ..units import METRIC, UnitSystem
+from .scrolling import SteadyScrollArea
 
 INTRO = ("The recommended steps in order, with the batch clean's settings. Untick a step to leave it out; "
          "Apply keeps the result as one undo step.")
@@ -86,10 +87,6 @@ class CleanUpPanel(QtWidgets.QWidget):
         self.steps_layout = QtWidgets.QVBoxLayout(self.steps_box)
         self.steps_layout.setContentsMargins(0, 0, 0, 0)
         self.steps_layout.setSpacing(4)
-        scroller = QtWidgets.QScrollArea()  # the list scrolls on a short screen; the buttons stay in view
-        scroller.setWidgetResizable(True)
-        scroller.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
-        scroller.setHorizontalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         body = QtWidgets.QWidget()
         body.setObjectName("panelBody")
         body_layout = QtWidgets.QVBoxLayout(body)
@@ -100,8 +97,8 @@ class CleanUpPanel(QtWidgets.QWidget):
         self.activity.setWordWrap(True)
         body_layout.addWidget(self.activity)
         body_layout.addStretch(1)
-        scroller.setWidget(body)
-        outer.addWidget(scroller, 1)
+        # the list scrolls on a short screen; the buttons stay in view
+        outer.addWidget(SteadyScrollArea(body), 1)
         # where the result is shown, the caution is shown
         self.caution = QtWidgets.QLabel(CAUTION)
         self.caution.setWordWrap(True)

@@ -158,6 +158,7 @@ def line(name: str, values: list[float], unit: str, target: float, higher: bool 
     print(f"  {name:<46} min {lo:8.1f}  median {med:8.1f}  max {hi:8.1f} {unit:<5} "
           f"target {'>=' if higher else '<='} {target:g}  {'ok' if ok else 'MISSED'}   (n={len(values)})",
           flush=True)
+    print("      runs: " + ", ".join(f"{v:.1f}" for v in values), flush=True)  # an outlier shows which run
     return med
 
 
