@@ -22,7 +22,10 @@ import numpy as np
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(Path(__file__).resolve().parent))  # make_screenshot beside this
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+
+from make_screenshot import save_and_close  # noqa: E402 (needs the path above)
 
 #: The map is centred on the point this far along the track, this many metres either side.
 FOCUS_FRACTION = 0.42
@@ -111,7 +114,7 @@ def main(argv: list[str]) -> int:
     from PySide6 import QtCore
 
     from editor.app import create_application
-    from editor.app.files import DEMO_RIDE
+    from editor.bundled import demo_ride
     from editor.app.settings import AppSettings
     from editor.app.window import MainWindow
 
@@ -120,8 +123,8 @@ def main(argv: list[str]) -> int:
     window = MainWindow(AppSettings.at_path(work / "settings.ini"))
     window.resize(1600, 1000)
     window.show()
-    if not window.files.open_path(DEMO_RIDE, confirmed=True):
-        print(f"cannot open {DEMO_RIDE}", file=sys.stderr)
+    if not window.files.open_path(demo_ride(), confirmed=True):
+        print(f"cannot open {demo_ride()}", file=sys.stderr)
         return 2
     points = window.session.track().points
     row = int(len(points) * FOCUS_FRACTION)
@@ -141,12 +144,7 @@ def main(argv: list[str]) -> int:
         app.processEvents(QtCore.QEventLoop.ProcessEventsFlag.AllEvents, 20)
     for _ in range(10):
         app.processEvents()
-    out.parent.mkdir(parents=True, exist_ok=True)
-    window.grab().save(str(out))
-    window.undo_stack.setClean()
-    window.close()
-    print(f"wrote {out}")
-    return 0
+    return save_and_close(window, out)
 
 
 if __name__ == "__main__":

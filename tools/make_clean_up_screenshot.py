@@ -22,7 +22,7 @@ SIZE = (1280, 720)
 #: The views show this many recorded points either side of the tunnel's removed points.
 ROWS_AROUND = 260
 
-from make_screenshot import wait_until  # noqa: E402 (needs the path above)
+from make_screenshot import save_and_close, wait_until  # noqa: E402 (needs the path above)
 
 
 def main(argv: list[str]) -> int:
@@ -59,13 +59,7 @@ def main(argv: list[str]) -> int:
     for view in window.views:
         view.fit_rows(rows)
     wait_until(app, lambda: False, 0.5)
-    out.parent.mkdir(parents=True, exist_ok=True)
-    window.grab().save(str(out))
-    window.previews.discard_preview()
-    window.undo_stack.setClean()
-    window.close()
-    print(f"wrote {out}")
-    return 0
+    return save_and_close(window, out)
 
 
 if __name__ == "__main__":

@@ -39,6 +39,17 @@ def wait_until(app, condition, seconds: float = 60.0) -> bool:
     return condition()
 
 
+def save_and_close(window, out: Path) -> int:
+    """Write the window's picture to ``out``, then close it without asking to save; 0 for the exit code."""
+    out.parent.mkdir(parents=True, exist_ok=True)
+    window.grab().save(str(out))
+    window.previews.discard_preview()
+    window.undo_stack.setClean()
+    window.close()
+    print(f"wrote {out}")
+    return 0
+
+
 def terrain_shot(out: Path) -> int:
     """The demo hike with its terrain: elevation preview (combine), terrain line, shaded relief."""
     from PySide6 import QtCore
@@ -74,13 +85,7 @@ def terrain_shot(out: Path) -> int:
         print("the relief did not arrive", file=sys.stderr)
         return 1
     wait_until(app, lambda: False, 1.5)  # the relief of the final view range
-    out.parent.mkdir(parents=True, exist_ok=True)
-    window.grab().save(str(out))
-    window.previews.discard_preview()
-    window.undo_stack.setClean()
-    window.close()
-    print(f"wrote {out}")
-    return 0
+    return save_and_close(window, out)
 
 
 def main(argv: list[str]) -> int:
@@ -123,12 +128,7 @@ def main(argv: list[str]) -> int:
     window.state.set_hover(row)
     for _ in range(10):
         app.processEvents()
-    out.parent.mkdir(parents=True, exist_ok=True)
-    window.grab().save(str(out))
-    window.undo_stack.setClean()
-    window.close()
-    print(f"wrote {out}")
-    return 0
+    return save_and_close(window, out)
 
 
 if __name__ == "__main__":

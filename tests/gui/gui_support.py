@@ -93,3 +93,23 @@ def line_vertices(item) -> int:
     """How many finite vertices a pyqtgraph curve item currently draws."""
     x, _ = item.getData()
     return 0 if x is None else int(np.isfinite(x).sum())
+
+
+def type_number(qtbot, spin, text: str) -> None:
+    """Click into a number box, replace its text and press Enter, as a rider does."""
+    line = spin.lineEdit()
+    qtbot.mouseClick(line, QtCore.Qt.MouseButton.LeftButton, pos=line.rect().center())
+    qtbot.keyClick(line, QtCore.Qt.Key.Key_A, QtCore.Qt.KeyboardModifier.ControlModifier)
+    qtbot.keyClicks(line, text)
+    qtbot.keyClick(line, QtCore.Qt.Key.Key_Return)
+
+
+def journal_after_a_crash(window):
+    """``(document, journal)``: what the crash journal restores, as if the editor stopped right now."""
+    from editor.recovery import find_journals, replay
+
+    window.recovery.journal.close()
+    window.recovery.recorder = None
+    found, unreadable = find_journals(window.settings.recovery_dir)
+    assert unreadable == [] and len(found) == 1
+    return replay(found[0].journal).doc, found[0].journal

@@ -10,6 +10,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from gui_support import journal_after_a_crash
 from PySide6 import QtCore, QtWidgets
 from PySide6.QtTest import QTest
 
@@ -175,7 +176,6 @@ def test_with_terrain_chosen_the_terrain_step_is_offered_as_in_the_batch(tunnel,
 def test_an_applied_clean_up_is_in_the_crash_journal_and_the_saved_copys_record(tmp_path, window, qtbot, dialogs):
     import shutil
 
-    from editor.recovery import find_journals, replay
 
     source = tmp_path / "tunnel.gpx"
     shutil.copy(TUNNEL, source)
@@ -184,13 +184,9 @@ def test_an_applied_clean_up_is_in_the_crash_journal_and_the_saved_copys_record(
     wait_result(qtbot, window)
     press(window.clean_up.panel.apply_button)
     expected = window.session.doc
-    window.recovery.journal.close()  # as if the editor stopped here
-    window.recovery.recorder = None
-    found, unreadable = find_journals(window.settings.recovery_dir)
-    assert unreadable == [] and len(found) == 1
-    restored = replay(found[0].journal).doc
+    restored, journal = journal_after_a_crash(window)
     assert restored.tracks[0].equals(expected.tracks[0])
-    found[0].journal.discard()
+    journal.discard()
     out = tmp_path / "tunnel-cleaned.gpx"
     assert window.files.write_copy(out)
     text = out.read_text()

@@ -9,7 +9,7 @@ from __future__ import annotations
 import json
 
 import pytest
-from gui_support import GPX_XSD, ROOT
+from gui_support import GPX_XSD, ROOT, type_number
 from PySide6 import QtCore
 
 TUNNEL = ROOT / "demo_tracks" / "demo_tunnel.gpx"
@@ -44,15 +44,6 @@ def open_tab(qtbot, window, name: str):
     qtbot.mouseClick(bar, LEFT, pos=bar.tabRect(index).center())
     assert dock.currentIndex() == index
     return panel
-
-
-def type_number(qtbot, spin, text: str) -> None:
-    """Click into a number box, replace its text and press Enter, as a user does."""
-    line = spin.lineEdit()
-    qtbot.mouseClick(line, LEFT, pos=line.rect().center())
-    qtbot.keyClick(line, QtCore.Qt.Key.Key_A, QtCore.Qt.KeyboardModifier.ControlModifier)
-    qtbot.keyClicks(line, text)
-    qtbot.keyClick(line, QtCore.Qt.Key.Key_Return)
 
 
 def wait_preview(qtbot, window, tool: str, previous=None):

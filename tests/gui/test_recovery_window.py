@@ -16,6 +16,7 @@ import time
 from pathlib import Path
 
 import numpy as np
+from gui_support import journal_after_a_crash
 from PySide6 import QtWidgets
 
 from editor.io.gpx import read_gpx
@@ -154,7 +155,6 @@ def test_live_journal_of_another_window_is_not_offered(window, tmp_path, qtbot, 
 
 
 def test_save_over_the_original_starts_a_fresh_journal(window, tmp_path, qtbot, dialogs):
-    from editor.recovery import find_journals, replay
 
     source = tmp_path / "tunnel.gpx"
     shutil.copy(DEMO, source)
@@ -169,15 +169,11 @@ def test_save_over_the_original_starts_a_fresh_journal(window, tmp_path, qtbot, 
     window.undo_stack.setIndex(2)
     assert window.recovery.journal is not None, window.statusBar().currentMessage()
     expected = window.session.doc
-    window.recovery.journal.close()  # as if the editor stopped here
-    window.recovery.recorder = None
-    found, unreadable = find_journals(window.settings.recovery_dir)
-    assert unreadable == [] and len(found) == 1
-    restored = replay(found[0].journal).doc
+    restored, journal = journal_after_a_crash(window)
     # the saved file also carries its cleaning record (metadata), which the live document does not
     assert len(restored.tracks) == len(expected.tracks)
     assert all(a.equals(b) for a, b in zip(restored.tracks, expected.tracks))
-    found[0].journal.discard()
+    journal.discard()
 
 
 def test_hostile_and_damaged_journals_are_reported_never_run(tmp_path, qtbot, dialogs):

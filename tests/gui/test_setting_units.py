@@ -9,7 +9,7 @@ from __future__ import annotations
 from dataclasses import replace
 
 import pytest
-from gui_support import ROOT
+from gui_support import ROOT, type_number
 from PySide6 import QtCore, QtWidgets
 
 from editor.units import IMPERIAL
@@ -35,15 +35,6 @@ def open_tab(qtbot, window, key: str):
     bar = dock.tabBar()
     qtbot.mouseClick(bar, LEFT, pos=bar.tabRect(dock.panels.index(panel)).center())
     return panel
-
-
-def type_number(qtbot, spin, text: str) -> None:
-    """Click into a number box, replace its text and press Enter, as a rider does."""
-    line = spin.lineEdit()
-    qtbot.mouseClick(line, LEFT, pos=line.rect().center())
-    qtbot.keyClick(line, QtCore.Qt.Key.Key_A, QtCore.Qt.KeyboardModifier.ControlModifier)
-    qtbot.keyClicks(line, text)
-    qtbot.keyClick(line, QtCore.Qt.Key.Key_Return)
 
 
 def test_imperial_converts_tool_settings_and_the_tool_still_gets_metres(window, qtbot):
